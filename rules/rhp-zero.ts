@@ -1,0 +1,8 @@
+import { claimRule } from '../src/claim-rule';
+
+export default claimRule({
+  id: 'rhp-zero',
+  claim: 'rhp_zero',
+  noun: 'right-half-plane zero',
+  description: 'The claimed right-half-plane zero matches the exact zeros of the network.',
+});

@@ -1,0 +1,8 @@
+import { claimRule } from '../src/claim-rule';
+
+export default claimRule({
+  id: 'second-pole',
+  claim: 'p2',
+  noun: 'second pole',
+  description: 'The claimed second pole matches the second-lowest pole of the exact network.',
+});

@@ -1,0 +1,118 @@
+// The shape shared by every rule that checks one claim against the exact
+// model: typical values at the typical point, min/max bounds at the worst
+// corner of any ranges, with the tolerance of the claim's kind.
+
+import { conditionsText } from './evaluation';
+import type { Figure } from './engine/figure';
+import { correctedClaim, designChanges } from './fixes';
+import type { Draft, Rule, RuleContext } from './rule';
+import type { ClaimEntry } from './spec/types';
+import { type BoundVerdict, boundSymbol, describeTolerance, judge, offBy, show, toleranceFor } from './verdict';
+
+export interface ClaimRuleSpec {
+  id: string;
+  claim: string;
+  /** Name of the figure in messages: "phase margin". */
+  noun: string;
+  description: string;
+}
+
+interface Point {
+  label: string;
+  where: string;
+  figure: Figure | undefined;
+  value: number | null;
+}
+
+function pointsOf(ctx: RuleContext, claim: string): Point[] {
+  return ctx.evaluated.map((e) => ({
+    label: e.corner.label,
+    where: conditionsText(ctx.spec, e.corner.values),
+    figure: e.model?.exact[claim],
+    value: e.model?.exact[claim]?.value ?? null,
+  }));
+}
+
+/** The point that decides a bound: the lowest value for min, the highest for max. */
+function worst(points: Point[], bound: 'min' | 'max'): Point {
+  let w = points[0];
+  for (const p of points) {
+    if (p.value === null) {
+      if (!p.figure?.reason?.includes('unbounded')) return p; // a missing figure fails any bound
+      continue;
+    }
+    if (w.value === null || (bound === 'min' ? p.value < w.value : p.value > w.value)) w = p;
+  }
+  return w;
+}
+
+export function claimRule(def: ClaimRuleSpec): Rule {
+  return {
+    id: def.id,
+    description: def.description,
+    severity: 'error',
+    concerns: [def.claim],
+    options: {},
+    check(ctx) {
+      const out: Draft[] = [];
+      for (const entry of ctx.spec.claims.filter((c) => c.key === def.claim)) out.push(...checkEntry(ctx, def, entry));
+      return out;
+    },
+  };
+}
+
+function checkEntry(ctx: RuleContext, def: ClaimRuleSpec, entry: ClaimEntry): Draft[] {
+  const kind = entry.spec.kind;
+  const t = toleranceFor(kind, ctx.tolerances);
+  const points = pointsOf(ctx, def.claim);
+  const typical = points[0];
+  const drafts: Draft[] = [];
+  const verdicts: Array<{ v: BoundVerdict; at: Point }> = [];
+  if (entry.typ) verdicts.push(...judge({ ...entry, min: undefined, max: undefined }, typical.value, typical.figure, t).map((v) => ({ v, at: typical })));
+  for (const bound of ['min', 'max'] as const) {
+    if (!entry[bound]) continue;
+    const at = worst(points, bound);
+    const only = { ...entry, typ: undefined, min: bound === 'min' ? entry.min : undefined, max: bound === 'max' ? entry.max : undefined };
+    verdicts.push(...judge(only, at.value, at.figure, t).map((v) => ({ v, at })));
+  }
+  const claimed = {
+    ...(entry.typ ? { typ: entry.typ.quantity.value } : {}),
+    ...(entry.min ? { min: entry.min.quantity.value } : {}),
+    ...(entry.max ? { max: entry.max.quantity.value } : {}),
+  };
+  const unit = kind === 'angle' ? 'deg' : kind === 'gain' ? 'dB' : kind === 'slew' ? 'V/s' : 'Hz';
+  for (const { v, at } of verdicts) {
+    if (v.outcome === 'holds') continue;
+    const pos = entry[v.bound]!.pos;
+    const written = entry[v.bound]!.quantity.written.text;
+    const corner = at.label !== 'typical' ? ` at the corner ${at.label} (${at.where})` : ` at ${at.where}`;
+    const claimText = `${def.noun} claimed ${boundSymbol[v.bound]}${written}`;
+    let message: string;
+    if (at.value === null) {
+      message = `${claimText}, but the model gives no ${def.noun}${corner}: ${at.figure?.reason ?? 'the figure does not exist'}`;
+    } else if (v.outcome === 'thin') {
+      message = `${claimText} holds${corner} with the model giving ${show(at.value, kind)}, ${offBy(v, at.value, kind)} (tolerance ${describeTolerance(t, kind)})`;
+    } else {
+      const tol = v.bound === 'typ' ? `, tolerance ${describeTolerance(t, kind)}` : '';
+      message = `${claimText}, model gives ${show(at.value, kind)}${corner} (${offBy(v, at.value, kind)}${tol})`;
+    }
+    const notes = at.figure?.notes ?? [];
+    if (notes.length) message += `; ${notes.join('; ')}`;
+    const suggestions = v.outcome === 'fails' && at.value !== null
+      ? [...correctedClaim(entry, [v], at.value, at.where), ...(at.label === 'typical' ? designChanges(ctx, entry, [v]) : [])]
+      : [];
+    drafts.push({
+      line: pos.line,
+      column: pos.column,
+      claim: entry.key,
+      claimed,
+      computed: at.value,
+      unit,
+      message,
+      suggestions,
+      ...(v.outcome === 'thin' ? { severity: 'warning' as const } : {}),
+      ...(at.figure ? { derivation: { method: at.figure.method, how: at.figure.how, ...(at.figure.notes?.length ? { notes: at.figure.notes } : {}) } } : {}),
+    });
+  }
+  return drafts;
+}

@@ -1,0 +1,284 @@
+// Exact small-signal analysis of a network: poles, zeros, DC gain, frequency
+// response with a continuous phase, unity-gain frequency, and of the loop
+// gain β·A its crossovers, phase margin, gain margin and closed-loop poles.
+
+import { type Figure, figure, missing } from './figure';
+import { complexLU, complexSolve, realLU, realSolve } from './linalg';
+import { type Network, NetworkError, type Stamped, stamp } from './network';
+import { type Root, pencilRoots, rootHz } from './roots';
+
+const TWO_PI = 2 * Math.PI;
+const DEG = 180 / Math.PI;
+
+export interface Response {
+  re: number;
+  im: number;
+  /** |H| in dB. */
+  magDb: number;
+  /** Phase in degrees, followed continuously from DC (0° for H(0) > 0, −180° for H(0) < 0). */
+  phaseDeg: number;
+}
+
+export interface NetworkAnalysis {
+  stamped: Stamped;
+  /** Poles and zeros in rad/s, ascending magnitude. */
+  poles: Root[];
+  zeros: Root[];
+  /** Whether Newton refinement converged for every root. */
+  rootsPolished: boolean;
+  /** H(0) in V/V, signed. */
+  dcGain: number;
+  /** H(j·2πf), with continuous phase. */
+  at(fHz: number): Response;
+  /** Lowest and highest frequency (Hz) worth searching. */
+  searchRange: [number, number];
+}
+
+export function analyzeNetwork(net: Network): NetworkAnalysis {
+  const st = stamp(net);
+  const { n, G, C, gIn, cIn, out } = st;
+  const luDc = realLU(G.slice(), n);
+  if (!luDc || luDc.pivotRatio < 1e-15) {
+    throw new NetworkError('the network has a node without a DC path to ground (conductance matrix is singular)');
+  }
+  const xDc = realSolve(luDc, n, gIn.map((v) => -v));
+  const dcGain = xDc[out];
+
+  const { roots: poles, polished: polesPolished } = pencilRoots(G, C, n);
+  // Zeros: roots of the bordered pencil [[G + sC, gIn + s·cIn], [e_outᵀ, 0]],
+  // whose determinant is, up to sign, the numerator of H(s) (Cramer's rule).
+  const m = n + 1;
+  const Ga = new Float64Array(m * m);
+  const Ca = new Float64Array(m * m);
+  for (let i = 0; i < n; i++) {
+    for (let j = 0; j < n; j++) {
+      Ga[i * m + j] = G[i * n + j];
+      Ca[i * m + j] = C[i * n + j];
+    }
+    Ga[i * m + n] = gIn[i];
+    Ca[i * m + n] = cIn[i];
+  }
+  Ga[n * m + out] = 1;
+  const { roots: zeros, polished: zerosPolished } = pencilRoots(Ga, Ca, m);
+
+  const re = new Float64Array(n * n);
+  const im = new Float64Array(n * n);
+  const br = new Float64Array(n);
+  const bi = new Float64Array(n);
+  const xr = new Float64Array(n);
+  const xi = new Float64Array(n);
+  const direct = (w: number): [number, number] => {
+    for (let i = 0; i < n * n; i++) {
+      re[i] = G[i];
+      im[i] = w * C[i];
+    }
+    for (let i = 0; i < n; i++) {
+      br[i] = -gIn[i];
+      bi[i] = -w * cIn[i];
+    }
+    const lu = complexLU(re, im, n);
+    complexSolve(lu, br, bi, xr, xi);
+    return [xr[out], xi[out]];
+  };
+
+  // Phase as a sum of per-root terms arg(1 − jω/r): each is continuous in ω
+  // for a root off the imaginary axis, so the sum needs no unwrapping.
+  const rootPhase = (roots: Root[], w: number): number => {
+    let sum = 0;
+    for (const r of roots) {
+      const m2 = r.re * r.re + r.im * r.im;
+      if (m2 === 0) sum += Math.PI / 2;
+      else sum += Math.atan2((-w * r.re) / m2, 1 - (w * r.im) / m2);
+    }
+    return sum;
+  };
+  const factored = (w: number): number => rootPhase(zeros, w) - rootPhase(poles, w);
+
+  const mags = [...poles, ...zeros].map((r) => Math.hypot(r.re, r.im)).filter((v) => v > 0);
+  const wLo = mags.length ? Math.min(...mags) * 1e-4 : 1;
+  const wHi = mags.length ? Math.max(...mags) * 1e4 : 1e12;
+  const [r0, i0] = direct(wLo);
+  // Constant part of the phase: 0 or ±π, read once near DC.
+  const k = Math.round((Math.atan2(i0, r0) - factored(wLo)) / Math.PI);
+  const phase0 = k % 2 === 0 ? 0 : -Math.PI;
+
+  const at = (fHz: number): Response => {
+    const w = TWO_PI * fHz;
+    const [hr, hi] = w === 0 ? [dcGain, 0] : direct(w);
+    const base = phase0 + factored(w);
+    const diff = Math.atan2(hi, hr) - base;
+    const wrapped = diff - TWO_PI * Math.round(diff / TWO_PI);
+    return { re: hr, im: hi, magDb: 20 * Math.log10(Math.hypot(hr, hi)), phaseDeg: (base + wrapped) * DEG };
+  };
+
+  return {
+    stamped: st,
+    poles,
+    zeros,
+    rootsPolished: polesPolished && zerosPolished,
+    dcGain,
+    at,
+    searchRange: [wLo / TWO_PI, wHi / TWO_PI],
+  };
+}
+
+/** A log-spaced frequency grid (plus points around every root) with the response at each point. */
+interface Sweep {
+  f: number[];
+  magDb: number[];
+  phaseDeg: number[];
+}
+
+function sweep(a: NetworkAnalysis, lo: number, hi: number, extra: number[]): Sweep {
+  const perDecade = 48;
+  const decades = Math.log10(hi / lo);
+  const count = Math.max(2, Math.ceil(decades * perDecade));
+  const f: number[] = [];
+  for (let i = 0; i <= count; i++) f.push(lo * 10 ** ((decades * i) / count));
+  for (const x of extra) if (x > lo && x < hi) f.push(x * 0.999, x, x * 1.001);
+  f.sort((x, y) => x - y);
+  const magDb: number[] = [];
+  const phaseDeg: number[] = [];
+  for (const x of f) {
+    const r = a.at(x);
+    magDb.push(r.magDb);
+    phaseDeg.push(r.phaseDeg);
+  }
+  return { f, magDb, phaseDeg };
+}
+
+/**
+ * Frequencies (Hz) where g(f) = values − target changes sign on the sweep,
+ * each refined by bisection in log f on the exact response.
+ */
+function signChanges(s: Sweep, values: number[], target: number, g: (fHz: number) => number): number[] {
+  const found: number[] = [];
+  for (let i = 1; i < s.f.length; i++) {
+    const ga = values[i - 1] - target;
+    const gb = values[i] - target;
+    if (ga === 0) {
+      found.push(s.f[i - 1]);
+      continue;
+    }
+    if (!(ga * gb < 0)) continue;
+    let a = Math.log(s.f[i - 1]);
+    let b = Math.log(s.f[i]);
+    let sa = ga;
+    for (let it = 0; it < 80 && b - a > 1e-15 * Math.abs(a + b) + 1e-300; it++) {
+      const mid = 0.5 * (a + b);
+      const gm = g(Math.exp(mid)) - target;
+      if (gm === 0) {
+        a = b = mid;
+        break;
+      }
+      if (gm * sa < 0) b = mid;
+      else {
+        a = mid;
+        sa = gm;
+      }
+    }
+    found.push(Math.exp(0.5 * (a + b)));
+  }
+  return found;
+}
+
+export interface LoopAnalysis {
+  beta: number;
+  /** Unity-gain frequency of A(jω) itself. */
+  unityGain: Figure;
+  /** Frequencies where |β·A| = 1. */
+  crossoversHz: number[];
+  phaseMargin: Figure;
+  gainMargin: Figure;
+  /** Poles of the closed loop A/(1 + βA), rad/s. */
+  closedLoopPoles: Root[];
+  stable: boolean;
+}
+
+const fmtHz = (f: number): string => `${f.toPrecision(4)} Hz`;
+
+export function analyzeLoop(a: NetworkAnalysis, beta: number): LoopAnalysis {
+  const [lo0, hi0] = a.searchRange;
+  const loopDb = 20 * Math.log10(beta);
+  // Extend the search upward until the loop gain is well below unity.
+  let hi = hi0;
+  for (let i = 0; i < 30 && a.at(hi).magDb + loopDb > -20; i++) hi *= 10;
+  let hiA = hi;
+  for (let i = 0; i < 30 && a.at(hiA).magDb > -20; i++) hiA *= 10;
+  const lo = lo0;
+  const rootFreqs = [...a.poles, ...a.zeros].map(rootHz).filter((f) => f > 0);
+  const s = sweep(a, lo, Math.max(hi, hiA), rootFreqs);
+  const mag = (f: number): number => a.at(f).magDb;
+  const phase = (f: number): number => a.at(f).phaseDeg;
+
+  // Unity-gain frequency of A: the first crossing of 0 dB from above.
+  const unityCrossings = signChanges(s, s.magDb, 0, mag);
+  let unityGain: Figure;
+  if (a.at(lo).magDb <= 0 && unityCrossings.length === 0) {
+    unityGain = missing('Hz', 'frequency-search', '|A(jω)| = 1 searched on the exact response', `|A| stays below 1 (DC gain ${a.at(lo).magDb.toFixed(2)} dB): no unity-gain frequency`);
+  } else if (unityCrossings.length === 0) {
+    unityGain = missing('Hz', 'frequency-search', '|A(jω)| = 1 searched on the exact response', '|A| stays above 1 at every frequency searched');
+  } else {
+    const notes = unityCrossings.length > 1 ? [`|A| crosses 1 at ${unityCrossings.length} frequencies (${unityCrossings.map(fmtHz).join(', ')}); the first is reported`] : undefined;
+    unityGain = figure(unityCrossings[0], 'Hz', 'frequency-search', '|A(j2πf)| = 1 solved by bisection on the exact nodal response', notes);
+  }
+
+  const loopMag = (f: number): number => a.at(f).magDb + loopDb;
+  const crossoversHz = signChanges(s, s.magDb, -loopDb, mag);
+  const pmHow = 'PM = 180° + ∠βA(j2πf_c) at |βA(j2πf_c)| = 1, phase followed continuously from DC';
+  let phaseMargin: Figure;
+  if (crossoversHz.length === 0) {
+    const dc = loopMag(lo);
+    phaseMargin = dc < 0
+      ? missing('deg', 'frequency-search', pmHow, `|βA| stays below 1 (loop gain at DC ${dc.toFixed(2)} dB): no crossover, so no phase margin`)
+      : missing('deg', 'frequency-search', pmHow, '|βA| stays above 1 at every frequency searched: no crossover');
+  } else {
+    const margins = crossoversHz.map((f) => 180 + a.at(f).phaseDeg);
+    let worst = 0;
+    for (let i = 1; i < margins.length; i++) if (margins[i] < margins[worst]) worst = i;
+    const notes = crossoversHz.length > 1
+      ? [`|βA| crosses 1 at ${crossoversHz.length} frequencies (${crossoversHz.map((f, i) => `${fmtHz(f)}: ${margins[i].toFixed(1)}°`).join(', ')}); the worst margin is reported`]
+      : [];
+    phaseMargin = figure(margins[worst], 'deg', 'frequency-search', `${pmHow}; f_c = ${fmtHz(crossoversHz[worst])}`, notes);
+  }
+
+  // Gain margin: where the continuous phase reaches −180° (or −540°, …).
+  const gmHow = 'GM = −20·log10|βA(j2πf_180)| where ∠βA = −180°';
+  const phaseCrossings: number[] = [];
+  for (const target of [-180, -540, 180]) {
+    phaseCrossings.push(...signChanges(s, s.phaseDeg, target, phase));
+  }
+  let gainMargin: Figure;
+  if (phaseCrossings.length === 0) {
+    gainMargin = missing('dB', 'frequency-search', gmHow, 'the phase of βA never reaches −180°: the gain margin is unbounded');
+  } else {
+    const gms = phaseCrossings.map((f) => -loopMag(f));
+    let worst = 0;
+    for (let i = 1; i < gms.length; i++) if (gms[i] < gms[worst]) worst = i;
+    const notes = phaseCrossings.length > 1
+      ? [`the phase reaches −180° at ${phaseCrossings.length} frequencies; the worst margin is reported`]
+      : [];
+    gainMargin = figure(gms[worst], 'dB', 'frequency-search', `${gmHow}; f_180 = ${fmtHz(phaseCrossings[worst])}`, notes);
+  }
+
+  // Closed loop with the input driven by vin − β·vout:
+  // (G − β·gIn·e_outᵀ + s(C − β·cIn·e_outᵀ))·V = −(gIn + s·cIn)·vin.
+  const { n, G, C, gIn, cIn, out } = a.stamped;
+  const Gc = G.slice();
+  const Cc = C.slice();
+  for (let i = 0; i < n; i++) {
+    Gc[i * n + out] -= beta * gIn[i];
+    Cc[i * n + out] -= beta * cIn[i];
+  }
+  let closedLoopPoles: Root[] = [];
+  try {
+    closedLoopPoles = pencilRoots(Gc, Cc, n).roots;
+  } catch {
+    closedLoopPoles = [];
+  }
+  const stable = closedLoopPoles.every((p) => p.re < 1e-12 * Math.hypot(p.re, p.im));
+  if (!stable && phaseMargin.value !== null) {
+    phaseMargin.notes = [...(phaseMargin.notes ?? []), 'the closed loop has a pole in the right half-plane: the loop is unstable'];
+  }
+  return { beta, unityGain, crossoversHz, phaseMargin, gainMargin, closedLoopPoles, stable };
+}

@@ -1,0 +1,39 @@
+// Every figure the engine or a topology returns says how it was obtained, so
+// reports and `explain` can show the derivation, and says why when it does
+// not exist (no NaN ever reaches a report).
+
+export type FigureUnit = 'Hz' | 'dB' | 'deg' | 'V/s' | 'V/V';
+
+export type Method =
+  /** From the exact poles and zeros of the network (generalized eigenvalues, Newton-refined). */
+  | 'exact-roots'
+  /** From a nodal solve of the network at one frequency (DC included). */
+  | 'nodal-solve'
+  /** From a root search on the exact frequency response. */
+  | 'frequency-search'
+  /** A first-order hand formula (pole splitting and friends). */
+  | 'hand-estimate'
+  /** A large-signal formula (slew rate). */
+  | 'large-signal';
+
+export interface Figure {
+  /** In the canonical unit; null when the figure does not exist (see `reason`). */
+  value: number | null;
+  unit: FigureUnit;
+  method: Method;
+  /** One line of derivation a designer can follow. */
+  how: string;
+  reason?: string;
+  notes?: string[];
+}
+
+export const figure = (value: number, unit: FigureUnit, method: Method, how: string, notes?: string[]): Figure =>
+  notes && notes.length ? { value, unit, method, how, notes } : { value, unit, method, how };
+
+export const missing = (unit: FigureUnit, method: Method, how: string, reason: string): Figure => ({
+  value: null,
+  unit,
+  method,
+  how,
+  reason,
+});

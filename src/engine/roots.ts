@@ -1,0 +1,220 @@
+// Roots of det(A + s·B) = 0 for a real matrix pencil: the poles of a network
+// (A = G, B = C) or, with the bordered pencil, the zeros of a transfer function.
+
+import { complexLU, complexSolve, eigenvalues, realLU, realSolve } from './linalg';
+
+/** A root in the complex frequency plane, in rad/s. */
+export interface Root {
+  re: number;
+  im: number;
+}
+
+export interface PencilRoots {
+  roots: Root[];
+  /** True when every root was refined to convergence by Newton's method on det(A + sB). */
+  polished: boolean;
+  /** The shift used to make A + σB invertible (0 for an ordinary pencil). */
+  shift: number;
+}
+
+/**
+ * All finite roots of det(A + sB).
+ *
+ * Method: shift-and-invert to a standard eigenproblem, μ = eig((A + σB)⁻¹B),
+ * s = σ − 1/μ, then each root is refined by simultaneous Newton (Aberth)
+ * steps on det(A + sB), using d/ds ln det(A + sB) = tr((A + sB)⁻¹B). The
+ * refinement restores full relative accuracy to roots that are many decades
+ * away from the largest one, where the eigenvalue step alone is only
+ * accurate relative to the largest.
+ */
+export function pencilRoots(A: Float64Array, B: Float64Array, n: number): PencilRoots {
+  if (n === 0) return { roots: [], polished: true, shift: 0 };
+  // One shift-and-invert resolves roots within about ten decades of the
+  // shift's scale; roots much farther out are lost in forming (A + σB)⁻¹B.
+  // So further passes shift far beyond the largest root found so far, until
+  // a pass adds nothing new.
+  const accepted: Root[] = [];
+  let polishedAll = true;
+  let firstShift = 0;
+  let far = 0;
+  for (let pass = 0; pass < 5; pass++) {
+    const start = shiftInvertRoots(A, B, n, pass === 0 ? candidateShifts(A, B, n) : [-far * 1e6, far * 1.3e6]);
+    if (!start) {
+      if (pass === 0) throw new Error('the network matrices are singular at every trial frequency');
+      break;
+    }
+    if (pass === 0) firstShift = start.shift;
+    const { roots, converged } = polish(A, B, n, start.roots, accepted);
+    polishedAll &&= converged;
+    let added = 0;
+    for (const r of roots) {
+      const size = Math.hypot(r.re, r.im);
+      if (accepted.some((q) => Math.hypot(q.re - r.re, q.im - r.im) <= 1e-7 * size)) continue;
+      accepted.push(r);
+      added++;
+    }
+    if (added === 0 || accepted.length >= n) break;
+    far = Math.max(...accepted.map((r) => Math.hypot(r.re, r.im)));
+  }
+  return { roots: sortRoots(symmetrise(accepted)), polished: polishedAll, shift: firstShift };
+}
+
+/** Eigenvalue estimates of the roots, from the first shift that makes A + σB invertible. */
+function shiftInvertRoots(A: Float64Array, B: Float64Array, n: number, shifts: number[]): { roots: Root[]; shift: number } | null {
+  for (const shift of shifts) {
+    const shifted = new Float64Array(n * n);
+    for (let i = 0; i < n * n; i++) shifted[i] = A[i] + shift * B[i];
+    const lu = realLU(shifted, n);
+    if (!lu || lu.pivotRatio < 1e-13) continue;
+    const M = new Float64Array(n * n);
+    const col = new Float64Array(n);
+    for (let j = 0; j < n; j++) {
+      for (let i = 0; i < n; i++) col[i] = B[i * n + j];
+      const x = realSolve(lu, n, col);
+      for (let i = 0; i < n; i++) M[i * n + j] = x[i];
+    }
+    const eig = eigenvalues(M, n);
+    if (!eig) continue;
+    let maxMu = 0;
+    for (let i = 0; i < n; i++) maxMu = Math.max(maxMu, Math.hypot(eig.re[i], eig.im[i]));
+    const roots: Root[] = [];
+    for (let i = 0; i < n; i++) {
+      const mr = eig.re[i];
+      const mi = eig.im[i];
+      const m2 = mr * mr + mi * mi;
+      // μ = 0 is a root at infinity; tiny μ may be one split by round-off,
+      // which the Newton refinement then rejects.
+      if (maxMu === 0 || m2 === 0 || Math.sqrt(m2) <= 1e-30 * maxMu) continue;
+      roots.push({ re: shift - mr / m2, im: mi / m2 });
+    }
+    return { roots, shift };
+  }
+  return null;
+}
+
+function candidateShifts(A: Float64Array, B: Float64Array, n: number): number[] {
+  let na = 0;
+  let nb = 0;
+  for (let i = 0; i < n * n; i++) {
+    na = Math.max(na, Math.abs(A[i]));
+    nb = Math.max(nb, Math.abs(B[i]));
+  }
+  const scale = nb > 0 && na > 0 ? na / nb : 1;
+  // Irrational-looking factors keep the shift off any root that is a round number.
+  return [0, -0.3719 * scale, 1.913 * scale, -7.31 * scale, -0.0517 * scale, 23.7 * scale];
+}
+
+function polish(A: Float64Array, B: Float64Array, n: number, start: Root[], fixed: Root[]): { roots: Root[]; converged: boolean } {
+  const roots = start.map((r) => ({ ...r }));
+  const done = roots.map(() => false);
+  const rejected = roots.map(() => false);
+  const lastStep = roots.map(() => Infinity);
+  const re = new Float64Array(n * n);
+  const im = new Float64Array(n * n);
+  const br = new Float64Array(n);
+  const zero = new Float64Array(n);
+  const xr = new Float64Array(n);
+  const xi = new Float64Array(n);
+  for (let iter = 0; iter < 40 && done.some((d) => !d); iter++) {
+    for (let k = 0; k < roots.length; k++) {
+      if (done[k]) continue;
+      const s = roots[k];
+      for (let i = 0; i < n * n; i++) {
+        re[i] = A[i] + s.re * B[i];
+        im[i] = s.im * B[i];
+      }
+      const lu = complexLU(re, im, n);
+      if (lu.pivotRatio < 1e-300) {
+        done[k] = true; // landed on the root exactly
+        continue;
+      }
+      // tr((A + sB)⁻¹ B)
+      let tr = 0;
+      let ti = 0;
+      for (let j = 0; j < n; j++) {
+        for (let i = 0; i < n; i++) br[i] = B[i * n + j];
+        complexSolve(lu, br, zero, xr, xi);
+        tr += xr[j];
+        ti += xi[j];
+      }
+      // Aberth: subtract the other roots' share of the logarithmic derivative.
+      for (let j = 0; j < roots.length + fixed.length; j++) {
+        if (j === k) continue;
+        const other = j < roots.length ? roots[j] : fixed[j - roots.length];
+        const dr = s.re - other.re;
+        const di = s.im - other.im;
+        const d2 = dr * dr + di * di;
+        if (d2 === 0) continue;
+        tr -= dr / d2;
+        ti -= -di / d2;
+      }
+      const t2 = tr * tr + ti * ti;
+      if (t2 === 0 || !Number.isFinite(t2)) {
+        done[k] = true;
+        continue;
+      }
+      const stepRe = tr / t2;
+      const stepIm = -ti / t2;
+      const size = Math.hypot(s.re, s.im);
+      const step = Math.hypot(stepRe, stepIm);
+      if (step > 0.5 * size) {
+        // An accurate eigenvalue estimate needs only a small correction; a step
+        // as large as the root itself means there is no root of det(A + sB)
+        // here: the estimate came from an infinite eigenvalue split by round-off.
+        rejected[k] = true;
+        done[k] = true;
+        continue;
+      }
+      s.re -= stepRe;
+      s.im -= stepIm;
+      // Converged at the round-off floor, or the step stopped shrinking there.
+      if (step <= 4e-14 * size || (step < 1e-10 * size && step >= lastStep[k])) done[k] = true;
+      lastStep[k] = step;
+    }
+  }
+  // Iterations that ran out before converging are reported as not polished.
+  return { roots: roots.filter((_, k) => !rejected[k]), converged: done.every((d) => d) };
+}
+
+function symmetrise(roots: Root[]): Root[] {
+  // A real pencil has real roots or conjugate pairs; remove round-off asymmetry.
+  const out: Root[] = [];
+  const used = new Array<boolean>(roots.length).fill(false);
+  for (let i = 0; i < roots.length; i++) {
+    if (used[i]) continue;
+    const r = roots[i];
+    const size = Math.hypot(r.re, r.im);
+    if (Math.abs(r.im) <= 1e-12 * size) {
+      out.push({ re: r.re, im: 0 });
+      used[i] = true;
+      continue;
+    }
+    let best = -1;
+    let bestDist = Infinity;
+    for (let j = i + 1; j < roots.length; j++) {
+      if (used[j]) continue;
+      const d = Math.hypot(roots[j].re - r.re, roots[j].im + r.im);
+      if (d < bestDist) {
+        bestDist = d;
+        best = j;
+      }
+    }
+    used[i] = true;
+    if (best >= 0 && bestDist <= 1e-6 * size) {
+      used[best] = true;
+      const re = 0.5 * (r.re + roots[best].re);
+      const im = 0.5 * (Math.abs(r.im) + Math.abs(roots[best].im));
+      out.push({ re, im }, { re, im: -im });
+    } else {
+      out.push({ ...r });
+    }
+  }
+  return out;
+}
+
+/** Ascending magnitude; for a conjugate pair the upper one first. */
+export function sortRoots(roots: Root[]): Root[] {
+  return roots.sort((a, b) => Math.hypot(a.re, a.im) - Math.hypot(b.re, b.im) || b.im - a.im);
+}
+
+export const rootHz = (r: Root): number => Math.hypot(r.re, r.im) / (2 * Math.PI);

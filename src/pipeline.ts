@@ -1,0 +1,62 @@
+// Text → Spec: unified + remark-parse + remark-frontmatter + remark-gfm find
+// the front matter (and, later, datasheet tables); js-yaml reads it with
+// positions; the schema turns it into a typed Spec.
+
+import remarkFrontmatter from 'remark-frontmatter';
+import remarkGfm from 'remark-gfm';
+import remarkParse from 'remark-parse';
+import { unified } from 'unified';
+import type { Finding } from './findings';
+import { readSpec } from './spec/schema';
+import { LineIndex } from './spec/position';
+import type { Spec } from './spec/types';
+import { parseYaml } from './spec/yaml';
+
+const processor = unified().use(remarkParse).use(remarkFrontmatter, ['yaml']).use(remarkGfm);
+
+export type ReadResult =
+  | { kind: 'skipped' }
+  | { kind: 'spec'; spec: Spec | null; findings: Finding[] };
+
+const SPEC_KEY = /^polecheck[ \t]*:/m;
+
+const inputError = (rule: string, pos: { line: number; column: number }, message: string, suggestions: string[] = []): Finding => ({
+  rule,
+  severity: 'error',
+  line: pos.line,
+  column: pos.column,
+  claim: null,
+  message,
+  suggestions,
+});
+
+export function readDocument(path: string, raw: string): ReadResult {
+  // A byte-order mark is not part of the text; positions are counted without it.
+  const text = raw.charCodeAt(0) === 0xfeff ? raw.slice(1) : raw;
+  const index = new LineIndex(text);
+  const tree = processor.parse(text);
+  const yamlNode = tree.children[0]?.type === 'yaml' ? tree.children[0] : undefined;
+  if (!yamlNode?.position) {
+    // An opening fence with the spec key but no closing fence is a broken spec, not a page.
+    if (/^---[ \t]*\r?\n/.test(text) && SPEC_KEY.test(text)) {
+      return { kind: 'spec', spec: null, findings: [inputError('front-matter', { line: 1, column: 1 }, 'front matter has no closing `---` fence')] };
+    }
+    return { kind: 'skipped' };
+  }
+  const start = yamlNode.position.start.offset ?? 0;
+  const end = yamlNode.position.end.offset ?? text.length;
+  // Content runs from after the opening fence's line break to the start of the closing fence line.
+  const nl = text.indexOf('\n', start);
+  const contentStart = nl < 0 || nl > end ? end : nl + 1;
+  let contentEnd = text.lastIndexOf('\n', end - 1);
+  if (contentEnd < contentStart) contentEnd = contentStart;
+  const source = text.slice(contentStart, contentEnd + (contentEnd > contentStart ? 1 : 0));
+  if (!SPEC_KEY.test(source)) return { kind: 'skipped' };
+
+  const where = (offset: number) => index.pos(contentStart + offset);
+  const parsed = parseYaml(source, where);
+  if (!parsed.ok) return { kind: 'spec', spec: null, findings: [inputError('yaml-syntax', parsed.error.pos, parsed.error.message)] };
+  if (!parsed.root || parsed.root.kind !== 'map' || !parsed.root.entries.some((e) => e.key === 'polecheck')) return { kind: 'skipped' };
+  const { spec, findings } = readSpec(path, parsed.root, index.pos(start));
+  return { kind: 'spec', spec, findings };
+}

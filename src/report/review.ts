@@ -1,0 +1,74 @@
+// The reviewer's report: for every block, every claim with the claimed value,
+// the exact model's figure, the hand estimate and its error, and the verdict;
+// then the poles, zeros and the caveats of the approximations.
+
+import type { FileResult } from '../check';
+import { conditionsText } from '../evaluation';
+import type { Figure } from '../engine/figure';
+import { rootHz } from '../engine/roots';
+import { formatQuantity } from '../quantity';
+import type { ClaimEntry } from '../spec/types';
+import type { Paint } from './style';
+import { CAUTION } from './summary';
+
+const claimedText = (c: ClaimEntry | undefined): string => {
+  if (!c) return '—';
+  const parts: string[] = [];
+  if (c.typ) parts.push(c.plain ? c.typ.quantity.written.text : `typ ${c.typ.quantity.written.text}`);
+  if (c.min) parts.push(`≥ ${c.min.quantity.written.text}`);
+  if (c.max) parts.push(`≤ ${c.max.quantity.written.text}`);
+  return parts.join(', ');
+};
+
+function handError(hand: Figure | undefined, exact: Figure | undefined, unit: string): string {
+  if (!hand || hand.value === null || !exact || exact.value === null) return '—';
+  if (unit === 'Hz' || unit === 'V/s') return `${((100 * (hand.value - exact.value)) / exact.value).toFixed(1)} %`;
+  const d = hand.value - exact.value;
+  return `${d >= 0 ? '+' : ''}${d.toFixed(1)} ${unit === 'deg' ? '°' : unit}`;
+}
+
+function table(rows: string[][], p: Paint): string[] {
+  const widths = rows[0].map((_, i) => Math.max(...rows.map((r) => [...r[i]].length)));
+  return rows.map((r, ri) => {
+    const line = r.map((cell, i) => cell + ' '.repeat(widths[i] - [...cell].length)).join('  ');
+    return ri === 0 ? p.bold(line) : line;
+  });
+}
+
+export function reviewReport(results: FileResult[], p: Paint): string {
+  const out: string[] = [];
+  for (const r of results) {
+    if (r.skipped) continue;
+    if (!r.spec || !r.model) {
+      out.push(p.bold(r.path), `  cannot be evaluated: ${r.findings.filter((f) => f.severity === 'error').map((f) => `${f.line}:${f.column} ${f.message}`).join('; ') || 'no model'}`, '');
+      continue;
+    }
+    const { spec, model } = r;
+    out.push(p.bold(`${spec.block ?? '(no block id)'} — ${spec.title ?? spec.topology.title}`));
+    out.push(`  ${r.path} · ${spec.topology.id} · at ${conditionsText(spec, model.values)}`);
+    const rows: string[][] = [['claim', 'claimed', 'exact model', 'hand estimate', 'hand error', 'verdict']];
+    for (const cs of spec.topology.claims) {
+      const entry = spec.claims.find((c) => c.key === cs.key);
+      const exact = model.exact[cs.key];
+      const hand = model.hand[cs.key];
+      const fs = r.findings.filter((f) => f.claim === cs.key && (f.rule !== 'hand-estimate-drift' || f.severity === 'error'));
+      const verdict = !entry ? p.dim('not claimed') : fs.some((f) => f.severity === 'error') ? p.red('fails') : fs.some((f) => f.severity === 'warning') ? p.yellow('thin margin') : p.green('holds');
+      const ex = exact ? (exact.value === null ? `none` : formatQuantity(exact.value, cs.kind)) : '—';
+      const hd = hand ? (hand.value === null ? 'none' : formatQuantity(hand.value, cs.kind)) : '—';
+      rows.push([cs.key, claimedText(entry), ex, hd, handError(hand, exact, exact?.unit ?? 'Hz'), verdict]);
+    }
+    out.push(...table(rows, p).map((l) => `  ${l}`));
+    const roots = (rs: typeof model.analysis.poles) => rs.map((z) => `${z.re > 0 ? '+' : '−'}${formatQuantity(rootHz(z), 'frequency')}${z.im !== 0 ? ' (complex)' : ''}`).join(', ') || 'none';
+    out.push(`  poles: ${roots(model.analysis.poles)}`);
+    out.push(`  zeros: ${roots(model.analysis.zeros)}   (sign: half-plane of the root)`);
+    out.push(`  closed loop (β = ${+model.beta.toPrecision(3)}): ${model.loop.stable ? 'stable' : p.red('UNSTABLE')}, poles ${roots(model.loop.closedLoopPoles)}`);
+    for (const c of model.caveats) out.push(`  ${p.yellow('caveat')} ${c}`);
+    const other = r.findings.filter((f) => f.claim === null || !spec.topology.claims.some((c) => c.key === f.claim));
+    for (const f of other) out.push(`  ${f.severity} ${f.line}:${f.column} ${f.message} (${f.rule})`);
+    if (r.context?.cornersLimited) out.push(`  ${p.yellow('note')} more ranged keys than corners enumerated: each key was taken to its ends one at a time`);
+    out.push('');
+  }
+  out.push(p.dim('Hand estimates: pole splitting and the one-pole GBW; "hand error" is the estimate against the exact model.'));
+  out.push(p.dim(CAUTION));
+  return `${out.join('\n')}\n`;
+}

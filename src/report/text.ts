@@ -1,0 +1,31 @@
+// The text report: grouped by file, one finding a line with its place,
+// severity, message and rule id, suggestions beneath.
+
+import type { FileResult } from '../check';
+import type { Finding } from '../findings';
+import type { Paint } from './style';
+import { CAUTION, summarize } from './summary';
+
+const mark = (f: Finding, p: Paint): string =>
+  f.severity === 'error' ? p.red('error  ') : f.severity === 'warning' ? p.yellow('warning') : p.blue('info   ');
+
+export function textReport(results: FileResult[], p: Paint, opts: { quiet?: boolean } = {}): string {
+  const lines: string[] = [];
+  for (const r of results) {
+    const shown = r.findings.filter((f) => !opts.quiet || f.severity === 'error');
+    if (r.skipped || shown.length === 0) continue;
+    lines.push(p.bold(r.path));
+    for (const f of shown) {
+      lines.push(`  ${p.dim(`${f.line}:${f.column}`.padEnd(7))} ${mark(f, p)} ${f.message}  ${p.dim(f.rule)}`);
+      for (const s of f.suggestions) lines.push(`           ${p.dim('→')} ${s}`);
+      for (const rel of f.related ?? []) lines.push(`           ${p.dim(`${rel.line}:${rel.column}`)} ${rel.message}`);
+    }
+    lines.push('');
+  }
+  const s = summarize(results);
+  const count = (n: number, w: string) => `${n} ${w}${n === 1 ? '' : 's'}`;
+  const tally = `${count(s.files, 'spec')} checked: ${count(s.errors, 'error')}, ${count(s.warnings, 'warning')}`;
+  lines.push(s.errors ? p.red(tally) : s.warnings ? p.yellow(tally) : p.green(tally));
+  if (s.files > 0) lines.push(p.dim(CAUTION));
+  return `${lines.join('\n')}\n`;
+}

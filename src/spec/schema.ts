@@ -1,0 +1,241 @@
+// The positioned YAML tree → a typed Spec, with an error at the exact place
+// of every key or value that does not fit the format (SPEC-FORMAT §2).
+
+import type { Finding } from '../findings';
+import { type Kind, KIND_EXAMPLE, KIND_NOUN, parseQuantity, parseTolerance } from '../quantity';
+import { TOPOLOGIES } from '../topologies';
+import type { KeySpec, Topology } from '../topologies/types';
+import { nearest } from './nearest';
+import type { Pos } from './position';
+import type { ClaimEntry, QuantityAt, Spec, ValueEntry } from './types';
+import type { YEntry, YMap, YNode } from './yaml';
+
+export const TOP_KEYS = ['polecheck', 'block', 'title', 'topology', 'params', 'conditions', 'claims'] as const;
+const BOUND_KEYS = ['min', 'typ', 'max'] as const;
+export const FORMAT_VERSION = 1;
+
+class Collector {
+  findings: Finding[] = [];
+  error(rule: string, pos: Pos, message: string, suggestions: string[] = [], claim: string | null = null): void {
+    this.findings.push({ rule, severity: 'error', line: pos.line, column: pos.column, claim, message, suggestions });
+  }
+  unknownKey(pos: Pos, key: string, where: string, valid: readonly string[]): void {
+    const near = nearest(key, valid);
+    const msg = near ? `unknown key \`${key}\` in ${where}; did you mean \`${near}\`?` : `unknown key \`${key}\` in ${where}; expected one of ${valid.map((k) => `\`${k}\``).join(', ')}`;
+    this.error('unknown-key', pos, msg, near ? [`rename \`${key}\` to \`${near}\``] : []);
+  }
+}
+
+function scalarText(node: YNode): string | undefined {
+  return node.kind === 'scalar' ? node.text : undefined;
+}
+
+/** Reads one quantity at a node; reports and returns undefined when it does not fit. */
+function quantityAt(c: Collector, node: YNode, kind: Kind, key: string, claim: string | null): QuantityAt | undefined {
+  if (node.kind !== 'scalar') {
+    c.error('wrong-unit', node.pos, `\`${key}\` expects ${KIND_NOUN[kind]} such as \`${KIND_EXAMPLE[kind]}\`, not a ${node.kind === 'map' ? 'mapping' : 'list'}`, [], claim);
+    return undefined;
+  }
+  if (node.plain && node.text.trim() === '') {
+    c.error('missing-value', node.pos, `\`${key}\` has no value; expected ${KIND_NOUN[kind]} such as \`${KIND_EXAMPLE[kind]}\``, [], claim);
+    return undefined;
+  }
+  const r = parseQuantity(node.text, kind);
+  if (!r.ok) {
+    const at = { ...node.pos, column: node.pos.column + (node.plain ? r.offset : r.offset + 1) };
+    c.error('wrong-unit', at, `\`${key}: ${node.text}\`: ${r.message}`, r.hint ? [`write \`${r.hint}\``] : [], claim);
+    return undefined;
+  }
+  return { quantity: r.quantity, pos: node.pos };
+}
+
+function checkPhysical(c: Collector, spec: KeySpec, q: QuantityAt): boolean {
+  const v = q.quantity.value;
+  if (v < 0 || (v === 0 && !spec.allowZero)) {
+    c.error('invalid-value', q.pos, `\`${spec.key}\` (${spec.description}) must be ${spec.allowZero ? 'zero or positive' : 'positive'}; got \`${q.quantity.written.text}\``);
+    return false;
+  }
+  if (spec.max !== undefined && v > spec.max) {
+    c.error('invalid-value', q.pos, `\`${spec.key}\` (${spec.description}) cannot exceed ${spec.max}; got \`${q.quantity.written.text}\``);
+    return false;
+  }
+  return true;
+}
+
+function readValues(c: Collector, node: YNode | undefined, specs: KeySpec[], where: string): Map<string, ValueEntry> {
+  const out = new Map<string, ValueEntry>();
+  if (!node) return out;
+  if (node.kind !== 'map') {
+    c.error('front-matter', node.pos, `\`${where}\` must be a mapping of keys to values`);
+    return out;
+  }
+  const valid = specs.map((s) => s.key);
+  for (const e of node.entries) {
+    const spec = specs.find((s) => s.key === e.key);
+    if (!spec) {
+      c.unknownKey(e.keyPos, e.key, `\`${where}\``, valid);
+      continue;
+    }
+    if (out.has(e.key)) continue; // YAML itself rejects duplicates
+    const entry = readValue(c, e, spec);
+    if (entry) out.set(e.key, entry);
+  }
+  return out;
+}
+
+function readValue(c: Collector, e: YEntry, spec: KeySpec): ValueEntry | undefined {
+  const v = e.value;
+  if (v.kind === 'scalar' && spec.open && v.text.trim().toLowerCase() === 'open') {
+    return { key: e.key, keyPos: e.keyPos, spec, typ: { quantity: { value: Infinity, kind: spec.kind, written: { text: 'open', number: '', unit: '', style: 'bare', scale: 1, sigDigits: 0, decimals: 0 } }, pos: v.pos }, open: true };
+  }
+  if (v.kind === 'map') {
+    const bounds: Partial<Record<(typeof BOUND_KEYS)[number], QuantityAt>> = {};
+    let ok = true;
+    for (const b of v.entries) {
+      if (!(BOUND_KEYS as readonly string[]).includes(b.key)) {
+        c.unknownKey(b.keyPos, b.key, `the range of \`${e.key}\``, BOUND_KEYS);
+        ok = false;
+        continue;
+      }
+      const q = quantityAt(c, b.value, spec.kind, `${e.key}.${b.key}`, null);
+      if (!q || !checkPhysical(c, spec, q)) ok = false;
+      else bounds[b.key as (typeof BOUND_KEYS)[number]] = q;
+    }
+    if (!ok) return undefined;
+    const { min, typ, max } = bounds;
+    if (!min && !max && !typ) {
+      c.error('invalid-value', v.pos, `the range of \`${e.key}\` needs at least one of min, typ, max`);
+      return undefined;
+    }
+    if (min && max && min.quantity.value > max.quantity.value) {
+      c.error('invalid-value', min.pos, `the range of \`${e.key}\` has min ${min.quantity.written.text} above max ${max.quantity.written.text}`);
+      return undefined;
+    }
+    if (typ && ((min && typ.quantity.value < min.quantity.value) || (max && typ.quantity.value > max.quantity.value))) {
+      c.error('invalid-value', typ.pos, `the typical value of \`${e.key}\` lies outside its range`);
+      return undefined;
+    }
+    if (typ) return { key: e.key, keyPos: e.keyPos, spec, typ, min, max };
+    if (min && max) {
+      const mid = { quantity: { ...min.quantity, value: (min.quantity.value + max.quantity.value) / 2 }, pos: min.pos };
+      return { key: e.key, keyPos: e.keyPos, spec, typ: mid, min, max, typIsMidpoint: true };
+    }
+    c.error('invalid-value', v.pos, `the range of \`${e.key}\` gives only ${min ? 'min' : 'max'}: a param needs typ, or both min and max`);
+    return undefined;
+  }
+  if (v.kind === 'scalar') {
+    const tol = parseTolerance(v.text, spec.kind);
+    if (tol) {
+      if (!tol.ok) {
+        c.error('wrong-unit', { ...v.pos, column: v.pos.column + tol.offset }, `\`${e.key}: ${v.text}\`: ${tol.message}`);
+        return undefined;
+      }
+      const at = (quantity: typeof tol.typ): QuantityAt => ({ quantity, pos: v.pos });
+      const entry = { key: e.key, keyPos: e.keyPos, spec, typ: at(tol.typ), min: at(tol.min), max: at(tol.max) };
+      return checkPhysical(c, spec, entry.typ) && checkPhysical(c, spec, entry.min) ? entry : undefined;
+    }
+  }
+  const q = quantityAt(c, v, spec.kind, e.key, null);
+  if (!q || !checkPhysical(c, spec, q)) return undefined;
+  return { key: e.key, keyPos: e.keyPos, spec, typ: q };
+}
+
+function readClaims(c: Collector, node: YNode | undefined, topology: Topology): ClaimEntry[] {
+  const out: ClaimEntry[] = [];
+  if (!node) return out;
+  if (node.kind !== 'map') {
+    c.error('front-matter', node.pos, '`claims` must be a mapping of claim keys to values');
+    return out;
+  }
+  const valid = topology.claims.map((s) => s.key);
+  for (const e of node.entries) {
+    const spec = topology.claims.find((s) => s.key === e.key);
+    if (!spec) {
+      c.unknownKey(e.keyPos, e.key, `the claims of \`${topology.id}\``, valid);
+      continue;
+    }
+    if (e.value.kind === 'map') {
+      const entry: ClaimEntry = { key: e.key, keyPos: e.keyPos, spec, plain: false };
+      let ok = true;
+      for (const b of e.value.entries) {
+        if (!(BOUND_KEYS as readonly string[]).includes(b.key)) {
+          c.unknownKey(b.keyPos, b.key, `the claim \`${e.key}\``, BOUND_KEYS);
+          ok = false;
+          continue;
+        }
+        const q = quantityAt(c, b.value, spec.kind, `${e.key}.${b.key}`, e.key);
+        if (!q) ok = false;
+        else entry[b.key as (typeof BOUND_KEYS)[number]] = q;
+      }
+      if (!ok) continue;
+      if (!entry.min && !entry.max && !entry.typ) {
+        c.error('invalid-value', e.value.pos, `the claim \`${e.key}\` needs at least one of min, typ, max`, [], e.key);
+        continue;
+      }
+      if (entry.min && entry.max && entry.min.quantity.value > entry.max.quantity.value) {
+        c.error('invalid-value', entry.min.pos, `the claim \`${e.key}\` has min above max`, [], e.key);
+        continue;
+      }
+      out.push(entry);
+    } else {
+      const q = quantityAt(c, e.value, spec.kind, e.key, e.key);
+      if (q) out.push({ key: e.key, keyPos: e.keyPos, spec, typ: q, plain: true });
+    }
+  }
+  return out;
+}
+
+export function readSpec(path: string, root: YMap, start: Pos): { spec: Spec | null; findings: Finding[] } {
+  const c = new Collector();
+  const get = (key: string): YEntry | undefined => root.entries.find((e) => e.key === key);
+  for (const e of root.entries) {
+    if (!(TOP_KEYS as readonly string[]).includes(e.key)) c.unknownKey(e.keyPos, e.key, 'the front matter', TOP_KEYS);
+  }
+  const version = get('polecheck')!;
+  if (scalarText(version.value)?.trim() !== String(FORMAT_VERSION)) {
+    c.error('front-matter', version.value.pos, `unsupported format version \`polecheck: ${scalarText(version.value) ?? '…'}\`; this polecheck reads version ${FORMAT_VERSION}`);
+    return { spec: null, findings: c.findings };
+  }
+  const topo = get('topology');
+  if (!topo) {
+    c.error('front-matter', start, `the front matter needs \`topology:\`, one of ${TOPOLOGIES.map((t) => `\`${t.id}\``).join(', ')}`);
+    return { spec: null, findings: c.findings };
+  }
+  const topoName = scalarText(topo.value)?.trim() ?? '';
+  const topology = TOPOLOGIES.find((t) => t.id === topoName);
+  if (!topology) {
+    const ids = TOPOLOGIES.map((t) => t.id);
+    const near = nearest(topoName, ids);
+    c.error('unknown-key', topo.value.pos, `unknown topology \`${topoName}\`${near ? `; did you mean \`${near}\`?` : `; known: ${ids.join(', ')}`}`, near ? [`write \`topology: ${near}\``] : []);
+    return { spec: null, findings: c.findings };
+  }
+  const paramsEntry = get('params');
+  const params = readValues(c, paramsEntry?.value, topology.params, 'params');
+  const conditions = readValues(c, get('conditions')?.value, topology.conditions, 'conditions');
+  const claims = readClaims(c, get('claims')?.value, topology);
+  const paramsPos = paramsEntry?.keyPos ?? topo.keyPos;
+
+  const written = new Set(paramsEntry?.value.kind === 'map' ? paramsEntry.value.entries.map((e) => e.key) : []);
+  for (const p of topology.params) {
+    // A param that is written but unreadable has its own error already.
+    if (p.required && !written.has(p.key)) {
+      c.error('missing-param', paramsPos, `missing param \`${p.key}\` (${p.description}): every figure of \`${topology.id}\` depends on it`, [`add \`${p.key}: ${KIND_EXAMPLE[p.kind]}\` (your value) under \`params:\``]);
+    }
+  }
+  for (const claim of claims) {
+    for (const need of claim.spec.needs ?? []) {
+      if (!written.has(need)) {
+        const ps = topology.params.find((p) => p.key === need)!;
+        c.error('missing-param', claim.keyPos, `the claim \`${claim.key}\` needs the param \`${need}\` (${ps.description}), which is not given`, [`add \`${need}:\` under \`params:\``], claim.key);
+      }
+    }
+  }
+  const block = scalarText(get('block')?.value ?? { kind: 'seq', items: [], pos: start });
+  const title = scalarText(get('title')?.value ?? { kind: 'seq', items: [], pos: start });
+  // A spec whose required params are missing or unreadable cannot be evaluated.
+  const complete = topology.params.every((p) => !p.required || params.has(p.key));
+  const spec: Spec | null = complete
+    ? { path, block, title, topology, topologyPos: topo.value.pos, params, conditions, claims, start, paramsPos }
+    : null;
+  return { spec, findings: c.findings };
+}

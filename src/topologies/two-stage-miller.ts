@@ -1,0 +1,154 @@
+// Two-stage Miller-compensated amplifier: a transconductance first stage
+// (gm1, r1, c1), an inverting second stage (gm2, r2, c2), compensation
+// capacitor cc from the output back to the first-stage output, optionally
+// in series with a nulling resistor rz; load cl ∥ rl; feedback factor β.
+//
+// Hand formulas: the pole-splitting analysis of the two-stage amplifier as in
+// P. R. Gray, P. J. Hurst, S. H. Lewis, R. G. Meyer, "Analysis and Design of
+// Analog Integrated Circuits", ch. 9 (Miller compensation, nulling resistor),
+// and P. E. Allen, D. R. Holberg, "CMOS Analog Circuit Design", ch. 6 (slew rate).
+
+import { type Figure, figure, missing } from '../engine/figure';
+import type { Element, Network } from '../engine/network';
+import type { Topology, Values } from './types';
+
+const TWO_PI = 2 * Math.PI;
+const DEG = 180 / Math.PI;
+
+/** Output-node capacitance and resistance with the load included. */
+export function loaded(v: Values): { c2l: number; r2l: number } {
+  const c2l = v.c2 + (v.cl ?? 0);
+  const r2l = v.rl !== undefined && Number.isFinite(v.rl) ? (v.r2 * v.rl) / (v.r2 + v.rl) : v.r2;
+  return { c2l, r2l };
+}
+
+export const twoStageMiller: Topology = {
+  id: 'two-stage-miller',
+  title: 'Two-stage Miller-compensated amplifier',
+  params: [
+    { key: 'gm1', kind: 'conductance', required: true, description: 'first-stage (input pair) transconductance', plausible: [1e-7, 1] },
+    { key: 'r1', kind: 'resistance', required: true, description: 'first-stage output resistance', plausible: [1e3, 1e10] },
+    { key: 'c1', kind: 'capacitance', required: true, description: 'first-stage output node capacitance', plausible: [1e-16, 1e-10] },
+    { key: 'gm2', kind: 'conductance', required: true, description: 'second-stage transconductance', plausible: [1e-7, 1] },
+    { key: 'r2', kind: 'resistance', required: true, description: 'second-stage output resistance', plausible: [1e2, 1e10] },
+    { key: 'c2', kind: 'capacitance', required: true, allowZero: true, description: 'output-node parasitic capacitance, load excluded', plausible: [1e-16, 1e-10] },
+    { key: 'cc', kind: 'capacitance', required: true, description: 'Miller compensation capacitor', plausible: [1e-14, 1e-10] },
+    { key: 'rz', kind: 'resistance', allowZero: true, default: 0, description: 'nulling resistor in series with cc', plausible: [1, 1e7] },
+    { key: 'i1', kind: 'current', description: 'first-stage tail current', plausible: [1e-9, 0.1] },
+    { key: 'i2', kind: 'current', description: 'second-stage bias current', plausible: [1e-9, 0.1] },
+  ],
+  conditions: [
+    { key: 'cl', kind: 'capacitance', allowZero: true, default: 0, description: 'load capacitance' },
+    { key: 'rl', kind: 'resistance', open: true, description: 'load resistance (absent or `open`: none)' },
+    { key: 'beta', kind: 'ratio', default: 1, max: 1, description: 'feedback factor of the loop, 1 for a unity-gain buffer' },
+  ],
+  claims: [
+    { key: 'dc_gain', kind: 'gain', description: 'open-loop DC gain A0' },
+    { key: 'gbw', kind: 'frequency', description: 'unity-gain frequency of the open-loop gain A(jω)' },
+    { key: 'p1', kind: 'frequency', description: 'lowest pole frequency of A(s)' },
+    { key: 'p2', kind: 'frequency', description: 'second-lowest pole frequency of A(s)' },
+    { key: 'rhp_zero', kind: 'frequency', description: 'right-half-plane zero of A(s)' },
+    { key: 'phase_margin', kind: 'angle', description: 'phase margin of the loop gain β·A(jω)' },
+    { key: 'gain_margin', kind: 'gain', description: 'gain margin of β·A(jω)' },
+    { key: 'slew_rate', kind: 'slew', description: 'large-signal slew rate', needs: ['i1', 'i2'] },
+  ],
+
+  network(v: Values): Network {
+    const { c2l } = loaded(v);
+    const elements: Element[] = [
+      // First stage inverts: its current leaves n1, so v(n1) = −gm1·r1·vin at DC.
+      { kind: 'vccs', name: 'gm1', a: 'n1', b: '0', ctrlP: 'in', ctrlN: '0', gm: v.gm1 },
+      { kind: 'conductance', name: 'r1', a: 'n1', b: '0', siemens: 1 / v.r1 },
+      { kind: 'capacitance', name: 'c1', a: 'n1', b: '0', farads: v.c1 },
+      { kind: 'vccs', name: 'gm2', a: 'out', b: '0', ctrlP: 'n1', ctrlN: '0', gm: v.gm2 },
+      { kind: 'conductance', name: 'r2', a: 'out', b: '0', siemens: 1 / v.r2 },
+      { kind: 'capacitance', name: 'c2+cl', a: 'out', b: '0', farads: c2l },
+    ];
+    if (v.rl !== undefined && Number.isFinite(v.rl)) elements.push({ kind: 'conductance', name: 'rl', a: 'out', b: '0', siemens: 1 / v.rl });
+    if (v.rz) {
+      elements.push(
+        { kind: 'capacitance', name: 'cc', a: 'n1', b: 'nz', farads: v.cc },
+        { kind: 'conductance', name: 'rz', a: 'nz', b: 'out', siemens: 1 / v.rz },
+      );
+    } else {
+      elements.push({ kind: 'capacitance', name: 'cc', a: 'n1', b: 'out', farads: v.cc });
+    }
+    return { elements, input: 'in', output: 'out' };
+  },
+
+  beta: (v) => v.beta ?? 1,
+
+  largeSignal(v: Values): Record<string, Figure> {
+    const how = 'SR = min(i1/cc, (i2 − i1)/cl)';
+    if (v.i1 === undefined || v.i2 === undefined) {
+      return { slew_rate: missing('V/s', 'large-signal', how, 'needs the bias currents i1 and i2') };
+    }
+    const internal = v.i1 / v.cc;
+    const cl = v.cl ?? 0;
+    if (v.i2 <= v.i1) {
+      return { slew_rate: missing('V/s', 'large-signal', how, `i2 (${v.i2} A) must exceed i1 (${v.i1} A) for the output stage to slew the load`) };
+    }
+    const external = cl > 0 ? (v.i2 - v.i1) / cl : Infinity;
+    const sr = Math.min(internal, external);
+    const limit = internal <= external ? 'limited by i1/cc (the first stage charging cc)' : 'limited by (i2 − i1)/cl (the output stage charging the load)';
+    return { slew_rate: figure(sr, 'V/s', 'large-signal', `${how}: ${limit}`) };
+  },
+
+  hand(v: Values, exact: Record<string, Figure>) {
+    const { c2l, r2l } = loaded(v);
+    const beta = v.beta ?? 1;
+    const rz = v.rz ?? 0;
+    const a0 = v.gm1 * v.r1 * v.gm2 * r2l;
+    const p1 = 1 / (TWO_PI * v.gm2 * v.r1 * r2l * v.cc);
+    const p2 = (v.gm2 * v.cc) / (TWO_PI * (v.c1 * c2l + v.cc * (v.c1 + c2l)));
+    const gbw = v.gm1 / (TWO_PI * v.cc);
+    const zDen = v.cc * (1 / v.gm2 - rz);
+    const zero = zDen === 0 ? Infinity : 1 / (TWO_PI * zDen); // > 0: RHP, < 0: LHP
+    const fc = beta * gbw;
+    const zeroLagDeg = Number.isFinite(zero) ? Math.atan(fc / zero) * DEG : 0; // an LHP zero (zero < 0) adds lead
+    const pm = 90 - Math.atan(fc / p2) * DEG - zeroLagDeg;
+
+    const figures: Record<string, Figure> = {
+      dc_gain: figure(20 * Math.log10(a0), 'dB', 'hand-estimate', "A0 = gm1·r1·gm2·r2' (r2' = r2 ∥ rl)"),
+      p1: figure(p1, 'Hz', 'hand-estimate', "p1 ≈ 1/(2π·gm2·r1·r2'·cc) (Miller-multiplied cc at the first-stage output)"),
+      p2: figure(p2, 'Hz', 'hand-estimate', "p2 ≈ gm2·cc/(2π·(c1·c2' + cc·(c1 + c2'))) (c2' = c2 + cl)"),
+      gbw: figure(gbw, 'Hz', 'hand-estimate', 'GBW ≈ gm1/(2π·cc)'),
+      phase_margin: figure(pm, 'deg', 'hand-estimate', `PM ≈ 90° − atan(β·GBW/p2) − atan(β·GBW/z) with β·GBW = ${fc.toPrecision(3)} Hz`),
+    };
+    if (rz === 0) figures.rhp_zero = figure(zero, 'Hz', 'hand-estimate', 'z ≈ gm2/(2π·cc)');
+    else if (Number.isFinite(zero) && zero > 0) figures.rhp_zero = figure(zero, 'Hz', 'hand-estimate', 'z ≈ 1/(2π·cc·(1/gm2 − rz))');
+    else {
+      figures.rhp_zero = missing('Hz', 'hand-estimate', 'z ≈ 1/(2π·cc·(1/gm2 − rz))', !Number.isFinite(zero) ? 'rz = 1/gm2 moves the zero to infinity' : 'rz > 1/gm2 moves the zero into the left half-plane');
+    }
+
+    const caveats: string[] = [];
+    const ep1 = exact.p1?.value;
+    const ep2 = exact.p2?.value;
+    if (ep1 && ep2 && ep2 / ep1 < 10) caveats.push(`pole splitting assumes p2 ≫ p1; here the exact p2/p1 = ${(ep2 / ep1).toPrecision(2)}`);
+    const egbw = exact.gbw?.value;
+    if (egbw && ep2 && egbw / ep2 > 0.5) caveats.push(`the one-pole picture of GBW assumes GBW ≪ p2; here GBW/p2 = ${(egbw / ep2).toPrecision(2)}`);
+    if (exact.p2?.notes?.some((n) => n.includes('complex'))) caveats.push('the exact non-dominant poles are a complex pair; the real-pole estimates do not describe them');
+    if (rz > 0) caveats.push(`rz adds a third pole near 1/(2π·rz·c1∥(…)); the two-pole estimates ignore it (≈ ${(1 / (TWO_PI * rz * v.c1)).toPrecision(3)} Hz)`);
+    return { figures, caveats };
+  },
+
+  knobs: {
+    dc_gain: ['gm2', 'r2', 'r1'],
+    gbw: ['cc', 'gm1'],
+    p1: ['cc'],
+    p2: ['gm2'],
+    rhp_zero: ['rz'],
+    phase_margin: ['cc', 'gm2'],
+    gain_margin: ['cc', 'gm2'],
+    slew_rate: ['i1', 'i2'],
+  },
+
+  hints(claim: string, v: Values) {
+    if (claim !== 'phase_margin' && claim !== 'rhp_zero' && claim !== 'gain_margin') return [];
+    const { c2l } = loaded(v);
+    return [
+      { param: 'rz', value: 1 / v.gm2, why: 'rz = 1/gm2 cancels the right-half-plane zero' },
+      { param: 'rz', value: (v.cc + c2l) / (v.gm2 * v.cc), why: "rz = (cc + c2')/(gm2·cc) puts the zero on the second pole" },
+    ];
+  },
+};

@@ -1,0 +1,92 @@
+// Claims against figures: tolerances (SPEC-FORMAT §2 defaults), the verdict,
+// and the wording of "claimed … model gives … (by how much)".
+
+import type { Figure } from './engine/figure';
+import { type Kind, formatQuantity } from './quantity';
+import type { ClaimEntry } from './spec/types';
+
+export interface Tolerance {
+  /** Relative (0.1 = ±10 %) or absolute in the canonical unit. */
+  value: number;
+  relative: boolean;
+}
+
+/** Defaults: ±10 % for frequencies and rates, ±1 dB for gains, ±3° for angles. */
+export const DEFAULT_TOLERANCES: Record<'frequency' | 'slew' | 'gain' | 'angle', Tolerance> = {
+  frequency: { value: 0.1, relative: true },
+  slew: { value: 0.1, relative: true },
+  gain: { value: 1, relative: false },
+  angle: { value: 3, relative: false },
+};
+
+export type Tolerances = typeof DEFAULT_TOLERANCES;
+
+export function toleranceFor(kind: Kind, tolerances: Tolerances = DEFAULT_TOLERANCES): Tolerance {
+  if (kind === 'frequency' || kind === 'slew' || kind === 'gain' || kind === 'angle') return tolerances[kind];
+  return { value: 0.1, relative: true };
+}
+
+export const describeTolerance = (t: Tolerance, kind: Kind): string =>
+  t.relative ? `±${+(t.value * 100).toPrecision(3)} %` : `±${formatQuantity(t.value, kind, 2)}`;
+
+export type Outcome = 'holds' | 'thin' | 'fails';
+
+export interface BoundVerdict {
+  bound: 'typ' | 'min' | 'max';
+  outcome: Outcome;
+  claimed: number;
+  /** Signed distance from the claim, in the canonical unit (computed − claimed). */
+  delta: number;
+}
+
+/** Fraction of the tolerance under which a bound that holds draws a "thin margin" warning. */
+export const THIN_FRACTION = 0.5;
+
+function distance(computed: number, claimed: number, t: Tolerance): number {
+  // In units of the tolerance: |d| ≤ 1 is within it.
+  return t.relative ? (computed - claimed) / (Math.abs(claimed) * t.value) : (computed - claimed) / t.value;
+}
+
+/**
+ * Verdict of one claim against one figure value. A null value (the figure
+ * does not exist) fails every bound except min of a margin that is unbounded.
+ */
+export function judge(entry: ClaimEntry, value: number | null, figureValue: Figure | undefined, t: Tolerance): BoundVerdict[] {
+  const out: BoundVerdict[] = [];
+  const unboundedAbove = value === null && figureValue?.reason?.includes('unbounded');
+  const v = value === null ? (unboundedAbove ? Infinity : NaN) : value;
+  if (entry.typ) {
+    const c = entry.typ.quantity.value;
+    const d = Number.isNaN(v) ? Infinity : distance(v, c, t);
+    out.push({ bound: 'typ', outcome: Math.abs(d) <= 1 ? 'holds' : 'fails', claimed: c, delta: v - c });
+  }
+  if (entry.min) {
+    const c = entry.min.quantity.value;
+    const d = Number.isNaN(v) ? -Infinity : distance(v, c, t);
+    out.push({ bound: 'min', outcome: d < 0 ? 'fails' : d < THIN_FRACTION ? 'thin' : 'holds', claimed: c, delta: v - c });
+  }
+  if (entry.max) {
+    const c = entry.max.quantity.value;
+    const d = Number.isNaN(v) ? Infinity : distance(v, c, t);
+    out.push({ bound: 'max', outcome: d > 0 ? 'fails' : d > -THIN_FRACTION ? 'thin' : 'holds', claimed: c, delta: v - c });
+  }
+  return out;
+}
+
+export const holdsAll = (verdicts: BoundVerdict[]): boolean => verdicts.every((v) => v.outcome !== 'fails');
+
+/** "18.4 MHz" or "−" style figure text for messages. */
+export const show = (value: number | null, kind: Kind): string => (value === null ? 'no value' : formatQuantity(value, kind));
+
+/** How far off, in words: "17.9° short", "20 % low", "3.2 dB high". */
+export function offBy(v: BoundVerdict, computed: number, kind: Kind): string {
+  const rel = kind === 'frequency' || kind === 'slew';
+  const amount = rel
+    ? `${Math.abs((100 * v.delta) / v.claimed).toPrecision(2)} %`
+    : formatQuantity(Math.abs(v.delta), kind, 2);
+  if (v.bound === 'min') return v.outcome === 'fails' ? `${amount} short` : `only ${amount} above the bound`;
+  if (v.bound === 'max') return v.outcome === 'fails' ? `${amount} over` : `only ${amount} below the bound`;
+  return `${amount} ${computed > v.claimed ? 'high' : 'low'}`;
+}
+
+export const boundSymbol = { typ: '', min: '≥ ', max: '≤ ' } as const;
