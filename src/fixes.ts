@@ -127,8 +127,8 @@ export function brokenClaims(ctx: RuleContext, model: Model, except: string): Ar
     const fig = model.exact[c.key];
     const verdicts = judge(c, fig?.value ?? null, fig, toleranceFor(c.spec.kind, ctx.tolerances));
     if (holdsAll(verdicts)) continue;
-    const claimed = c.typ ?? c.min ?? c.max;
-    out.push({ key: c.key, text: `${c.key} ${fig?.value === null || fig === undefined ? 'has no value' : `becomes ${formatQuantity(fig.value, c.spec.kind)}`} (claimed ${claimed?.quantity.written.text})` });
+    const claimed = [c.typ && c.typ.quantity.written.text, c.min && `≥ ${c.min.quantity.written.text}`, c.max && `≤ ${c.max.quantity.written.text}`].filter(Boolean).join(', ');
+    out.push({ key: c.key, text: `${c.key} ${fig?.value === null || fig === undefined ? 'has no value' : `becomes ${formatQuantity(fig.value, c.spec.kind)}`} (claimed ${claimed})` });
   }
   return out;
 }
@@ -138,6 +138,12 @@ export function designChanges(ctx: RuleContext, entry: ClaimEntry, verdicts: Bou
   const kind = entry.spec.kind;
   const target = targetOf(entry, verdicts, kind, ctx);
   if (target === undefined) return [];
+  // A design that beats its typical claim is not to be made worse: only the claim is stale.
+  const current = ctx.model.exact[entry.key]?.value;
+  const failing = verdicts.find((v) => v.outcome === 'fails');
+  if (failing?.bound === 'typ' && current !== null && current !== undefined && entry.spec.better) {
+    if (entry.spec.better === 'higher' ? current > failing.claimed : current < failing.claimed) return [];
+  }
   const values = ctx.model.values;
   const topo = ctx.spec.topology;
   const solved: Solved[] = [];
@@ -159,12 +165,12 @@ export function designChanges(ctx: RuleContext, entry: ClaimEntry, verdicts: Bou
     const pspec = topo.params.find((p) => p.key === s.param)!;
     const now = values[s.param];
     const nowText = now === undefined || now === 0 ? 'now none' : `now ${formatQuantity(now, pspec.kind)}`;
+    const why = s.why ? `; ${s.why}` : '';
     const broken = brokenClaims(ctx, s.model, entry.key);
     const effect = broken.length === 0 ? 'and the other claims still hold' : `but then ${broken.map((b) => b.text).join('; ')}`;
     broken.forEach((b) => conflicts.add(b.key));
     if (broken.length === 0) anyClean = true;
-    const why = s.why ? ` (${s.why})` : '';
-    out.push(`${s.param} = ${formatQuantity(s.value, pspec.kind)} (${nowText})${why} gives ${formatQuantity(s.figure, kind)}, ${effect}`);
+    out.push(`${s.param} = ${formatQuantity(s.value, pspec.kind)} (${nowText}${why}) gives ${formatQuantity(s.figure, kind)}, ${effect}`);
   }
   if (solved.length && !anyClean) {
     const tried = [...new Set(solved.map((s) => s.param))].join(', ');

@@ -24,7 +24,7 @@ function handError(hand: Figure | undefined, exact: Figure | undefined, unit: st
   if (!hand || hand.value === null || !exact || exact.value === null) return '—';
   if (unit === 'Hz' || unit === 'V/s') return `${((100 * (hand.value - exact.value)) / exact.value).toFixed(1)} %`;
   const d = hand.value - exact.value;
-  return `${d >= 0 ? '+' : ''}${d.toFixed(1)} ${unit === 'deg' ? '°' : unit}`;
+  return `${d >= 0 ? '+' : ''}${d.toFixed(1)}${unit === 'deg' ? '°' : ` ${unit}`}`;
 }
 
 function table(rows: string[][], p: Paint): string[] {
@@ -53,12 +53,20 @@ export function reviewReport(results: FileResult[], p: Paint): string {
       const hand = model.hand[cs.key];
       const fs = r.findings.filter((f) => f.claim === cs.key && (f.rule !== 'hand-estimate-drift' || f.severity === 'error'));
       const verdict = !entry ? p.dim('not claimed') : fs.some((f) => f.severity === 'error') ? p.red('fails') : fs.some((f) => f.severity === 'warning') ? p.yellow('thin margin') : p.green('holds');
-      const ex = exact ? (exact.value === null ? `none` : formatQuantity(exact.value, cs.kind)) : '—';
-      const hd = hand ? (hand.value === null ? 'none' : formatQuantity(hand.value, cs.kind)) : '—';
+      const none = (f: Figure) => (f.reason?.includes('unbounded') ? 'unbounded' : 'none');
+      const ex = exact ? (exact.value === null ? none(exact) : formatQuantity(exact.value, cs.kind)) : '—';
+      const hd = hand ? (hand.value === null ? none(hand) : formatQuantity(hand.value, cs.kind)) : '—';
       rows.push([cs.key, claimedText(entry), ex, hd, handError(hand, exact, exact?.unit ?? 'Hz'), verdict]);
     }
     out.push(...table(rows, p).map((l) => `  ${l}`));
-    const roots = (rs: typeof model.analysis.poles) => rs.map((z) => `${z.re > 0 ? '+' : '−'}${formatQuantity(rootHz(z), 'frequency')}${z.im !== 0 ? ' (complex)' : ''}`).join(', ') || 'none';
+    // Real roots as signed frequencies; a conjugate pair once, as |p| with its Q.
+    const roots = (rs: typeof model.analysis.poles) =>
+      rs.filter((z) => z.im >= 0).map((z) => {
+        const side = z.re > 0 ? '+' : '−';
+        if (z.im === 0) return `${side}${formatQuantity(rootHz(z), 'frequency')}`;
+        const q = Math.hypot(z.re, z.im) / (2 * Math.abs(z.re));
+        return `${side}${formatQuantity(rootHz(z), 'frequency')} complex pair (Q = ${q.toPrecision(2)})`;
+      }).join(', ') || 'none';
     out.push(`  poles: ${roots(model.analysis.poles)}`);
     out.push(`  zeros: ${roots(model.analysis.zeros)}   (sign: half-plane of the root)`);
     out.push(`  closed loop (β = ${+model.beta.toPrecision(3)}): ${model.loop.stable ? 'stable' : p.red('UNSTABLE')}, poles ${roots(model.loop.closedLoopPoles)}`);

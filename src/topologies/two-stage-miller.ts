@@ -10,6 +10,7 @@
 
 import { type Figure, figure, missing } from '../engine/figure';
 import type { Element, Network } from '../engine/network';
+import { formatQuantity } from '../quantity';
 import type { Topology, Values } from './types';
 
 const TWO_PI = 2 * Math.PI;
@@ -43,14 +44,14 @@ export const twoStageMiller: Topology = {
     { key: 'beta', kind: 'ratio', default: 1, max: 1, description: 'feedback factor of the loop, 1 for a unity-gain buffer' },
   ],
   claims: [
-    { key: 'dc_gain', kind: 'gain', description: 'open-loop DC gain A0' },
-    { key: 'gbw', kind: 'frequency', description: 'unity-gain frequency of the open-loop gain A(jω)' },
+    { key: 'dc_gain', kind: 'gain', better: 'higher', description: 'open-loop DC gain A0' },
+    { key: 'gbw', kind: 'frequency', better: 'higher', description: 'unity-gain frequency of the open-loop gain A(jω)' },
     { key: 'p1', kind: 'frequency', description: 'lowest pole frequency of A(s)' },
     { key: 'p2', kind: 'frequency', description: 'second-lowest pole frequency of A(s)' },
     { key: 'rhp_zero', kind: 'frequency', description: 'right-half-plane zero of A(s)' },
-    { key: 'phase_margin', kind: 'angle', description: 'phase margin of the loop gain β·A(jω)' },
-    { key: 'gain_margin', kind: 'gain', description: 'gain margin of β·A(jω)' },
-    { key: 'slew_rate', kind: 'slew', description: 'large-signal slew rate', needs: ['i1', 'i2'] },
+    { key: 'phase_margin', kind: 'angle', better: 'higher', description: 'phase margin of the loop gain β·A(jω)' },
+    { key: 'gain_margin', kind: 'gain', better: 'higher', description: 'gain margin of β·A(jω)' },
+    { key: 'slew_rate', kind: 'slew', better: 'higher', description: 'large-signal slew rate', needs: ['i1', 'i2'] },
   ],
 
   network(v: Values): Network {
@@ -113,7 +114,7 @@ export const twoStageMiller: Topology = {
       p1: figure(p1, 'Hz', 'hand-estimate', "p1 ≈ 1/(2π·gm2·r1·r2'·cc) (Miller-multiplied cc at the first-stage output)"),
       p2: figure(p2, 'Hz', 'hand-estimate', "p2 ≈ gm2·cc/(2π·(c1·c2' + cc·(c1 + c2'))) (c2' = c2 + cl)"),
       gbw: figure(gbw, 'Hz', 'hand-estimate', 'GBW ≈ gm1/(2π·cc)'),
-      phase_margin: figure(pm, 'deg', 'hand-estimate', `PM ≈ 90° − atan(β·GBW/p2) − atan(β·GBW/z) with β·GBW = ${fc.toPrecision(3)} Hz`),
+      phase_margin: figure(pm, 'deg', 'hand-estimate', `PM ≈ 90° − atan(β·GBW/p2) − atan(β·GBW/z) with β·GBW = ${formatQuantity(fc, 'frequency')}`),
     };
     if (rz === 0) figures.rhp_zero = figure(zero, 'Hz', 'hand-estimate', 'z ≈ gm2/(2π·cc)');
     else if (Number.isFinite(zero) && zero > 0) figures.rhp_zero = figure(zero, 'Hz', 'hand-estimate', 'z ≈ 1/(2π·cc·(1/gm2 − rz))');
@@ -128,7 +129,8 @@ export const twoStageMiller: Topology = {
     const egbw = exact.gbw?.value;
     if (egbw && ep2 && egbw / ep2 > 0.5) caveats.push(`the one-pole picture of GBW assumes GBW ≪ p2; here GBW/p2 = ${(egbw / ep2).toPrecision(2)}`);
     if (exact.p2?.notes?.some((n) => n.includes('complex'))) caveats.push('the exact non-dominant poles are a complex pair; the real-pole estimates do not describe them');
-    if (rz > 0) caveats.push(`rz adds a third pole near 1/(2π·rz·c1∥(…)); the two-pole estimates ignore it (≈ ${(1 / (TWO_PI * rz * v.c1)).toPrecision(3)} Hz)`);
+    const p3 = rz > 0 ? 1 / (TWO_PI * rz * v.c1) : Infinity;
+    if (egbw && p3 < 10 * beta * egbw) caveats.push(`rz adds a third pole p3 ≈ 1/(2π·rz·c1) = ${formatQuantity(p3, 'frequency')}, within ten times the crossover; the two-pole estimates ignore it`);
     return { figures, caveats };
   },
 

@@ -33,6 +33,8 @@ export interface ClaimSpec {
   key: string;
   kind: Kind;
   description: string;
+  /** A figure where more is better (margins, gain, speed): a design that beats a typical claim needs no design change, only the claim updated. */
+  better?: 'higher' | 'lower';
   /** Params this claim needs beyond the required ones (slew rate needs bias currents). */
   needs?: string[];
 }
