@@ -76,7 +76,7 @@ function solveParam(ctx: RuleContext, entry: ClaimEntry, param: string, base: nu
     return r && r.value !== null ? r.value - target : null;
   };
   // Scan two decades either side on a log grid, then bisect the bracket nearest the current value.
-  const steps = 16;
+  const steps = 8;
   const grid: Array<{ x: number; d: number | null }> = [];
   for (let i = -steps; i <= steps; i++) {
     const x = base * 10 ** ((2 * i) / steps);
@@ -97,7 +97,7 @@ function solveParam(ctx: RuleContext, entry: ClaimEntry, param: string, base: nu
   if (!best) return null;
   let [lo, hi] = best;
   let dlo = f(lo)!;
-  for (let i = 0; i < 40; i++) {
+  for (let i = 0; i < 32; i++) {
     const mid = Math.sqrt(lo * hi);
     const dm = f(mid);
     if (dm === null) return null;
