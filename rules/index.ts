@@ -1,11 +1,14 @@
 // The registry: every rule polecheck runs, in report order.
 
 import type { Rule } from '../src/rule';
+import bandwidth from './bandwidth';
+import compensationSizing from './compensation-sizing';
 import dcGain from './dc-gain';
 import dominantPole from './dominant-pole';
 import gainBandwidth from './gain-bandwidth';
 import gainMargin from './gain-margin';
 import handEstimateDrift from './hand-estimate-drift';
+import inputCapacitance from './input-capacitance';
 import phaseMargin from './phase-margin';
 import prefixSlip from './prefix-slip';
 import rhpZero from './rhp-zero';
@@ -23,8 +26,11 @@ export const RULES: readonly Rule[] = [
   phaseMargin,
   gainMargin,
   slewRate,
+  bandwidth,
+  inputCapacitance,
   secondPoleSpacing,
   rhpZeroSpacing,
   handEstimateDrift,
   prefixSlip,
+  compensationSizing,
 ];

@@ -1,5 +1,5 @@
 import { formatQuantity } from '../src/quantity';
-import { placeFor } from '../src/places';
+import { inLoop, placeFor } from '../src/places';
 import type { Rule } from '../src/rule';
 
 // Common practice (rule of thumb): a right-half-plane zero ten times above the
@@ -12,15 +12,16 @@ const rule: Rule = {
   concerns: ['rhp_zero', 'phase_margin'],
   options: { ratio: 10 },
   check(ctx, options) {
+    if (!inLoop(ctx.spec)) return [];
     const z = ctx.model.exact.rhp_zero?.value;
     const fc = ctx.model.loop.crossoversHz[0];
     if (!z || !fc || z >= options.ratio * fc) return [];
-    const { pos, claim } = placeFor(ctx.spec, ['rhp_zero', 'phase_margin', 'gbw']);
+    const { pos } = placeFor(ctx.spec, ['rhp_zero', 'phase_margin', 'gbw']);
     const lag = (Math.atan(fc / z) * 180) / Math.PI;
     return [{
       line: pos.line,
       column: pos.column,
-      claim,
+      claim: null,
       computed: z,
       unit: 'Hz',
       message: `right-half-plane zero ${formatQuantity(z, 'frequency')} is only ${(z / fc).toPrecision(2)}× the loop crossover ${formatQuantity(fc, 'frequency')} and costs about ${lag.toFixed(1)}° of phase; common practice keeps it above ${options.ratio}×`,

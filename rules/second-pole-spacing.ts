@@ -1,5 +1,5 @@
 import { formatQuantity } from '../src/quantity';
-import { placeFor } from '../src/places';
+import { inLoop, placeFor } from '../src/places';
 import type { Rule } from '../src/rule';
 
 // Common practice (rule of thumb): with the second pole at 2.2× the loop
@@ -12,14 +12,15 @@ const rule: Rule = {
   concerns: ['p2', 'phase_margin'],
   options: { ratio: 2.2 },
   check(ctx, options) {
+    if (!inLoop(ctx.spec)) return [];
     const p2 = ctx.model.exact.p2?.value;
     const fc = ctx.model.loop.crossoversHz[0];
     if (!p2 || !fc || p2 >= options.ratio * fc) return [];
-    const { pos, claim } = placeFor(ctx.spec, ['p2', 'phase_margin', 'gbw']);
+    const { pos } = placeFor(ctx.spec, ['p2', 'phase_margin', 'gbw']);
     return [{
       line: pos.line,
       column: pos.column,
-      claim,
+      claim: null,
       computed: p2,
       unit: 'Hz',
       message: `second pole ${formatQuantity(p2, 'frequency')} is ${(p2 / fc).toPrecision(2)}× the loop crossover ${formatQuantity(fc, 'frequency')}; common practice keeps it above ${options.ratio}× (about 60° of phase margin in a two-pole loop)`,

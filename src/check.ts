@@ -35,7 +35,9 @@ export function checkText(path: string, text: string, options: CheckOptions = {}
   const evaluated: Evaluated[] = points.map((c) => evaluateCorner(spec, c));
   const typical = evaluated[0];
   if (!typical.model) {
-    findings.push({ rule: 'network', severity: 'error', line: spec.paramsPos.line, column: spec.paramsPos.column, claim: null, message: `the small-signal model cannot be solved: ${typical.error}`, suggestions: [] });
+    const why = spec.topology.diagnose?.();
+    const pos = why?.pos ?? spec.paramsPos;
+    findings.push({ rule: 'network', severity: 'error', line: pos.line, column: pos.column, claim: null, message: `the small-signal model cannot be solved: ${why?.message ?? typical.error}`, suggestions: [] });
     return { path, skipped: false, findings: sortFindings(findings), spec };
   }
   for (const e of evaluated.slice(1)) {

@@ -6,6 +6,7 @@ import { conditionsText } from './evaluation';
 import type { Figure } from './engine/figure';
 import { correctedClaim, designChanges } from './fixes';
 import type { Draft, Rule, RuleContext } from './rule';
+import { CANONICAL_UNIT } from './quantity';
 import type { ClaimEntry } from './spec/types';
 import { type BoundVerdict, boundSymbol, describeTolerance, judge, offBy, show, toleranceFor } from './verdict';
 
@@ -80,7 +81,7 @@ function checkEntry(ctx: RuleContext, def: ClaimRuleSpec, entry: ClaimEntry): Dr
     ...(entry.min ? { min: entry.min.quantity.value } : {}),
     ...(entry.max ? { max: entry.max.quantity.value } : {}),
   };
-  const unit = kind === 'angle' ? 'deg' : kind === 'gain' ? 'dB' : kind === 'slew' ? 'V/s' : 'Hz';
+  const unit = CANONICAL_UNIT[kind];
   for (const { v, at } of verdicts) {
     if (v.outcome === 'holds') continue;
     const pos = entry[v.bound]!.pos;

@@ -45,8 +45,7 @@ export function correctedClaim(entry: ClaimEntry, verdicts: BoundVerdict[], comp
 }
 
 interface Solved {
-  param: string;
-  value: number;
+  changes: Values;
   model: Model;
   figure: number;
   why?: string;
@@ -114,7 +113,7 @@ function solveParam(ctx: RuleContext, entry: ClaimEntry, param: string, base: nu
     const r = figureAt(ctx, entry.key, { [param]: candidate });
     if (!r) continue;
     const ok = holdsAll(judge(entry, r.value, r.model.exact[entry.key], toleranceFor(entry.spec.kind, ctx.tolerances)));
-    if (ok && r.value !== null) return { param, value: candidate, model: r.model, figure: r.value };
+    if (ok && r.value !== null) return { changes: { [param]: candidate }, model: r.model, figure: r.value };
   }
   return null;
 }
@@ -148,10 +147,10 @@ export function designChanges(ctx: RuleContext, entry: ClaimEntry, verdicts: Bou
   const topo = ctx.spec.topology;
   const solved: Solved[] = [];
   for (const hint of topo.hints(entry.key, values)) {
-    const r = figureAt(ctx, entry.key, { [hint.param]: hint.value });
+    const r = figureAt(ctx, entry.key, hint.changes);
     if (!r) continue;
     if (holdsAll(judge(entry, r.value, r.model.exact[entry.key], toleranceFor(kind, ctx.tolerances))) && r.value !== null) {
-      solved.push({ param: hint.param, value: hint.value, model: r.model, figure: r.value, why: hint.why });
+      solved.push({ changes: hint.changes, model: r.model, figure: r.value, why: hint.why });
     }
   }
   for (const param of topo.knobs[entry.key] ?? []) {
@@ -162,18 +161,21 @@ export function designChanges(ctx: RuleContext, entry: ClaimEntry, verdicts: Bou
   const conflicts = new Set<string>();
   let anyClean = false;
   for (const s of solved) {
-    const pspec = topo.params.find((p) => p.key === s.param)!;
-    const now = values[s.param];
-    const nowText = now === undefined || now === 0 ? 'now none' : `now ${formatQuantity(now, pspec.kind)}`;
+    const change = Object.entries(s.changes).map(([param, value]) => {
+      const kind = topo.params.find((p) => p.key === param)?.kind ?? 'ratio';
+      const now = values[param];
+      const nowText = now === undefined || now === 0 ? 'now none' : `now ${formatQuantity(now, kind)}`;
+      return { text: `${param} = ${formatQuantity(value, kind)}`, nowText };
+    });
     const why = s.why ? `; ${s.why}` : '';
     const broken = brokenClaims(ctx, s.model, entry.key);
     const effect = broken.length === 0 ? 'and the other claims still hold' : `but then ${broken.map((b) => b.text).join('; ')}`;
     broken.forEach((b) => conflicts.add(b.key));
     if (broken.length === 0) anyClean = true;
-    out.push(`${s.param} = ${formatQuantity(s.value, pspec.kind)} (${nowText}${why}) gives ${formatQuantity(s.figure, kind)}, ${effect}`);
+    out.push(`${change.map((c) => c.text).join(' and ')} (${change.map((c) => c.nowText).join(', ')}${why}) gives ${formatQuantity(s.figure, kind)}, ${effect}`);
   }
   if (solved.length && !anyClean) {
-    const tried = [...new Set(solved.map((s) => s.param))].join(', ');
+    const tried = [...new Set(solved.flatMap((s) => Object.keys(s.changes)))].join(', ');
     out.push(`no single change of ${tried} meets every claim: ${entry.key} conflicts with ${[...conflicts].join(', ')}`);
   }
   if (!solved.length && (topo.knobs[entry.key]?.length ?? 0) > 0) {

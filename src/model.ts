@@ -44,6 +44,7 @@ export function evaluate(topology: Topology, values: Values): Model {
     ? figure(gainDb, 'dB', 'nodal-solve', `A0 = |v(out)/v(in)| from the nodal solve at DC = ${Math.abs(analysis.dcGain).toPrecision(5)} V/V`, analysis.dcGain < 0 ? ['the open-loop gain is inverting at DC'] : undefined)
     : missing('dB', 'nodal-solve', 'A0 from the nodal solve at DC', 'the DC gain is zero: a zero sits at the origin');
   exact.gbw = loop.unityGain;
+  exact.bandwidth = loop.bandwidth;
 
   const polesText = poles.map(hz).join(', ') || 'none';
   const rootNote = analysis.rootsPolished ? 'generalized eigenvalues of (G, C), Newton-refined' : 'generalized eigenvalues of (G, C) (Newton refinement did not converge for every root)';
@@ -65,7 +66,7 @@ export function evaluate(topology: Topology, values: Values): Model {
 
   exact.phase_margin = loop.phaseMargin;
   exact.gain_margin = loop.gainMargin;
-  Object.assign(exact, topology.largeSignal(values));
+  Object.assign(exact, topology.largeSignal(values), topology.figures?.(values));
 
   const hand = topology.hand(values, exact);
   return { topology, values, beta, analysis, loop, exact, hand: hand.figures, caveats: hand.caveats };

@@ -11,3 +11,6 @@ export function placeFor(spec: Spec, claims: string[]): { pos: Pos; claim: strin
   }
   return { pos: spec.paramsPos, claim: null };
 }
+
+/** Whether the spec's topology is used in a feedback loop (it has a feedback factor). */
+export const inLoop = (spec: Spec): boolean => spec.topology.conditions.some((c) => c.key === 'beta');

@@ -11,10 +11,22 @@ const dir = 'specs/strand';
 const check = (name: string) => checkText(join(dir, name), readFileSync(join(dir, name), 'utf8'));
 
 describe('demo specs', () => {
-  const consistent = ['bridge-preamp.md', 'adc-driver.md', 'ref-buffer.md', 'tia-core.md', 'ldo-error-amp.md'];
-  it('has at least five blocks, most of them consistent', () => {
+  const consistent = [
+    'bridge-preamp.md',
+    'adc-driver.md',
+    'ref-buffer.md',
+    'tia-core.md',
+    'ldo-error-amp.md',
+    'line-driver.md',
+    'sense-ota.md',
+    'mux-gain-stage.md',
+    'feedforward-amp.md',
+  ];
+  it('has at least five blocks, most of them consistent, and every topology', () => {
     const all = readdirSync(dir).filter((f) => f.endsWith('.md'));
     expect(all.length).toBeGreaterThanOrEqual(7);
+    const topologies = new Set(all.map((f) => check(f).spec?.topology.id));
+    expect([...topologies].sort()).toEqual(['common-source', 'network', 'single-stage', 'three-stage-nested-miller', 'two-stage-miller']);
     expect(consistent.every((c) => all.includes(c))).toBe(true);
   });
 

@@ -4,7 +4,7 @@
 
 import { type Figure, figure, missing } from './figure';
 import { complexLU, complexSolve, realLU, realSolve } from './linalg';
-import { type Network, NetworkError, type Stamped, stamp } from './network';
+import { GROUND, type Network, NetworkError, type Stamped, stamp } from './network';
 import { type Root, pencilRoots, rootHz } from './roots';
 
 const TWO_PI = 2 * Math.PI;
@@ -184,6 +184,8 @@ function signChanges(s: Sweep, values: number[], target: number, g: (fHz: number
 
 export interface LoopAnalysis {
   beta: number;
+  /** −3 dB frequency of A(jω) relative to its DC value. */
+  bandwidth: Figure;
   /** Unity-gain frequency of A(jω) itself. */
   unityGain: Figure;
   /** Frequencies where |β·A| = 1. */
@@ -223,6 +225,12 @@ export function analyzeLoop(a: NetworkAnalysis, beta: number): LoopAnalysis {
     unityGain = figure(unityCrossings[0], 'Hz', 'frequency-search', '|A(j2πf)| = 1 solved by bisection on the exact nodal response', notes);
   }
 
+  const dcDb = 20 * Math.log10(Math.abs(a.dcGain));
+  const bwHow = '|A(j2πf)| = |A(0)|/√2 solved by bisection on the exact nodal response';
+  const bwCrossings = Number.isFinite(dcDb) ? signChanges(s, s.magDb, dcDb - 10 * Math.log10(2), mag) : [];
+  const bandwidth = bwCrossings.length
+    ? figure(bwCrossings[0], 'Hz', 'frequency-search', bwHow, bwCrossings.length > 1 ? [`|A| crosses the −3 dB level ${bwCrossings.length} times; the first is reported`] : undefined)
+    : missing('Hz', 'frequency-search', bwHow, Number.isFinite(dcDb) ? '|A| never falls 3 dB below its DC value' : 'the DC gain is zero');
   const loopMag = (f: number): number => a.at(f).magDb + loopDb;
   const crossoversHz = signChanges(s, s.magDb, -loopDb, mag);
   const pmHow = 'PM = 180° + ∠βA(j2πf_c) at |βA(j2πf_c)| = 1, phase followed continuously from DC';
@@ -280,5 +288,57 @@ export function analyzeLoop(a: NetworkAnalysis, beta: number): LoopAnalysis {
   if (!stable && phaseMargin.value !== null) {
     phaseMargin.notes = [...(phaseMargin.notes ?? []), 'the closed loop has a pole in the right half-plane: the loop is unstable'];
   }
-  return { beta, unityGain, crossoversHz, phaseMargin, gainMargin, closedLoopPoles, stable };
+  return { beta, bandwidth, unityGain, crossoversHz, phaseMargin, gainMargin, closedLoopPoles, stable };
+}
+
+/**
+ * Admittance seen by the input source at one frequency: the current it
+ * delivers into the network per volt (re, im in siemens).
+ */
+export function inputAdmittance(net: Network, fHz: number): { re: number; im: number } {
+  const st = stamp(net);
+  const { n, G, C, gIn, cIn } = st;
+  const w = TWO_PI * fHz;
+  const re = new Float64Array(n * n);
+  const im = new Float64Array(n * n);
+  for (let i = 0; i < n * n; i++) {
+    re[i] = G[i];
+    im[i] = w * C[i];
+  }
+  const xr = new Float64Array(n);
+  const xi = new Float64Array(n);
+  complexSolve(complexLU(re, im, n), gIn.map((v) => -v), cIn.map((v) => -w * v), xr, xi);
+  const v = (node: string): [number, number] => {
+    if (node === GROUND) return [0, 0];
+    if (node === net.input) return [1, 0];
+    const k = st.nodes.indexOf(node);
+    return [xr[k], xi[k]];
+  };
+  // Currents leaving the input node through each element it touches.
+  let ir = 0;
+  let ii = 0;
+  for (const e of net.elements) {
+    if (e.kind === 'vccs') {
+      const [pr, pi] = v(e.ctrlP);
+      const [qr, qi] = v(e.ctrlN);
+      const sign = (e.a === net.input ? 1 : 0) - (e.b === net.input ? 1 : 0);
+      ir += sign * e.gm * (pr - qr);
+      ii += sign * e.gm * (pi - qi);
+      continue;
+    }
+    if (e.a !== net.input && e.b !== net.input) continue;
+    const other = e.a === net.input ? e.b : e.a;
+    const [or, oi] = v(other);
+    const dr = 1 - or;
+    const di = -oi;
+    if (e.kind === 'conductance') {
+      ir += e.siemens * dr;
+      ii += e.siemens * di;
+    } else {
+      // j·ω·C·(Δv)
+      ir += -w * e.farads * di;
+      ii += w * e.farads * dr;
+    }
+  }
+  return { re: ir, im: ii };
 }

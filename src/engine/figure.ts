@@ -2,7 +2,7 @@
 // reports and `explain` can show the derivation, and says why when it does
 // not exist (no NaN ever reaches a report).
 
-export type FigureUnit = 'Hz' | 'dB' | 'deg' | 'V/s' | 'V/V';
+export type FigureUnit = 'Hz' | 'dB' | 'deg' | 'V/s' | 'V/V' | 'F';
 
 export type Method =
   /** From the exact poles and zeros of the network (generalized eigenvalues, Newton-refined). */

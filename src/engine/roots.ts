@@ -82,9 +82,10 @@ function shiftInvertRoots(A: Float64Array, B: Float64Array, n: number, shifts: n
       const mr = eig.re[i];
       const mi = eig.im[i];
       const m2 = mr * mr + mi * mi;
-      // μ = 0 is a root at infinity; tiny μ may be one split by round-off,
-      // which the Newton refinement then rejects.
-      if (maxMu === 0 || m2 === 0 || Math.sqrt(m2) <= 1e-30 * maxMu) continue;
+      // μ = 0 is a root at infinity, and μ at the round-off level of the
+      // largest one may be one split by round-off: such estimates are left
+      // to a later pass, shifted near them, which resolves them if they are real.
+      if (maxMu === 0 || Math.sqrt(m2) <= 1e-13 * maxMu) continue;
       roots.push({ re: shift - mr / m2, im: mi / m2 });
     }
     return { roots, shift };

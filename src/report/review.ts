@@ -6,6 +6,7 @@ import type { FileResult } from '../check';
 import { conditionsText } from '../evaluation';
 import type { Figure } from '../engine/figure';
 import { rootHz } from '../engine/roots';
+import { inLoop } from '../places';
 import { formatQuantity } from '../quantity';
 import type { ClaimEntry } from '../spec/types';
 import type { Paint } from './style';
@@ -22,7 +23,7 @@ const claimedText = (c: ClaimEntry | undefined): string => {
 
 function handError(hand: Figure | undefined, exact: Figure | undefined, unit: string): string {
   if (!hand || hand.value === null || !exact || exact.value === null) return '—';
-  if (unit === 'Hz' || unit === 'V/s') return `${((100 * (hand.value - exact.value)) / exact.value).toFixed(1)} %`;
+  if (unit === 'Hz' || unit === 'V/s' || unit === 'F') return `${((100 * (hand.value - exact.value)) / exact.value).toFixed(1)} %`;
   const d = hand.value - exact.value;
   return `${d >= 0 ? '+' : ''}${d.toFixed(1)}${unit === 'deg' ? '°' : ` ${unit}`}`;
 }
@@ -69,7 +70,11 @@ export function reviewReport(results: FileResult[], p: Paint): string {
       }).join(', ') || 'none';
     out.push(`  poles: ${roots(model.analysis.poles)}`);
     out.push(`  zeros: ${roots(model.analysis.zeros)}   (sign: half-plane of the root)`);
-    out.push(`  closed loop (β = ${+model.beta.toPrecision(3)}): ${model.loop.stable ? 'stable' : p.red('UNSTABLE')}, poles ${roots(model.loop.closedLoopPoles)}`);
+    if (inLoop(spec)) out.push(`  closed loop (β = ${+model.beta.toPrecision(3)}): ${model.loop.stable ? 'stable' : p.red('UNSTABLE')}, poles ${roots(model.loop.closedLoopPoles)}`);
+    for (const guide of spec.topology.sizing?.(model.values) ?? []) {
+      const kind = (k: string) => spec.topology.params.find((x) => x.key === k)?.kind ?? 'capacitance';
+      out.push(`  sizing guide: ${Object.entries(guide.changes).map(([k, v]) => `${k} = ${formatQuantity(v, kind(k))} (document: ${formatQuantity(model.values[k], kind(k))})`).join(', ')} — ${guide.why}`);
+    }
     for (const c of model.caveats) out.push(`  ${p.yellow('caveat')} ${c}`);
     const other = r.findings.filter((f) => f.claim === null || !spec.topology.claims.some((c) => c.key === f.claim));
     for (const f of other) out.push(`  ${f.severity} ${f.line}:${f.column} ${f.message} (${f.rule})`);

@@ -4,13 +4,14 @@
 import type { Finding } from '../findings';
 import { type Kind, KIND_EXAMPLE, KIND_NOUN, parseQuantity, parseTolerance } from '../quantity';
 import { TOPOLOGIES } from '../topologies';
+import { ELEMENT_KINDS, type ElementKind, type NetworkDef, type NetworkElementDef, checkStructure, networkTopology } from '../topologies/network';
 import type { KeySpec, Topology } from '../topologies/types';
 import { nearest } from './nearest';
 import type { Pos } from './position';
 import type { ClaimEntry, QuantityAt, Spec, ValueEntry } from './types';
 import type { YEntry, YMap, YNode } from './yaml';
 
-export const TOP_KEYS = ['polecheck', 'block', 'title', 'topology', 'params', 'conditions', 'claims'] as const;
+export const TOP_KEYS = ['polecheck', 'block', 'title', 'topology', 'network', 'params', 'conditions', 'claims'] as const;
 const BOUND_KEYS = ['min', 'typ', 'max'] as const;
 export const FORMAT_VERSION = 1;
 
@@ -185,6 +186,88 @@ function readClaims(c: Collector, node: YNode | undefined, topology: Topology): 
   return out;
 }
 
+const ELEMENT_KEYS: Record<ElementKind, string[]> = {
+  resistor: ['kind', 'between', 'value'],
+  capacitor: ['kind', 'between', 'value'],
+  transconductance: ['kind', 'into', 'from', 'control', 'value'],
+};
+
+const nodeList = (n: YNode | undefined): string[] | undefined =>
+  n?.kind === 'seq' && n.items.every((i) => i.kind === 'scalar') ? n.items.map((i) => (i as { text: string }).text.trim()) : undefined;
+
+/** Reads `network:` — its structure, and its element values as the spec's params. */
+function readNetwork(c: Collector, entry: YEntry): { topology: Topology; values: YMap } | undefined {
+  const v = entry.value;
+  if (v.kind !== 'map') {
+    c.error('front-matter', v.pos, '`network` must be a mapping with `input`, `output`, `nodes` and `elements`');
+    return undefined;
+  }
+  const get = (k: string) => v.entries.find((e) => e.key === k);
+  for (const e of v.entries) if (!['input', 'output', 'nodes', 'elements'].includes(e.key)) c.unknownKey(e.keyPos, e.key, '`network`', ['input', 'output', 'nodes', 'elements']);
+  const input = scalarText(get('input')?.value ?? v)?.trim();
+  const output = scalarText(get('output')?.value ?? v)?.trim();
+  const nodes = nodeList(get('nodes')?.value);
+  const elementsNode = get('elements')?.value;
+  let ok = true;
+  if (!input) (c.error('front-matter', v.pos, '`network` needs `input:`, the node driven by the input source'), (ok = false));
+  if (!output) (c.error('front-matter', v.pos, '`network` needs `output:`, the node whose voltage is the output'), (ok = false));
+  if (!nodes) (c.error('front-matter', (get('nodes') ?? entry).keyPos, '`network` needs `nodes:`, a list of every node but ground (0 or gnd), e.g. `[in, n1, out]`'), (ok = false));
+  if (!elementsNode || elementsNode.kind !== 'map') {
+    c.error('front-matter', (get('elements') ?? entry).keyPos, '`network` needs `elements:`, a mapping from element names to `{kind, between|into/control, value}`');
+    return undefined;
+  }
+  const elements: NetworkElementDef[] = [];
+  const values: YEntry[] = [];
+  for (const el of elementsNode.entries) {
+    if (el.value.kind !== 'map') {
+      c.error('front-matter', el.value.pos, `element \`${el.key}\` must be a mapping such as \`{kind: resistor, between: [n1, 0], value: 2.2 MΩ}\``);
+      ok = false;
+      continue;
+    }
+    const f = (k: string) => (el.value as YMap).entries.find((e) => e.key === k);
+    const kind = scalarText(f('kind')?.value ?? el.value)?.trim() as ElementKind | undefined;
+    if (!kind || !ELEMENT_KINDS.includes(kind)) {
+      const near = kind ? nearest(kind, ELEMENT_KINDS) : undefined;
+      c.error('unknown-key', (f('kind')?.value ?? el.value).pos, `element \`${el.key}\` needs \`kind:\` one of ${ELEMENT_KINDS.join(', ')}${near ? `; did you mean \`${near}\`?` : ''}`);
+      ok = false;
+      continue;
+    }
+    for (const e of el.value.entries) if (!ELEMENT_KEYS[kind].includes(e.key)) c.unknownKey(e.keyPos, e.key, `the ${kind} \`${el.key}\``, ELEMENT_KEYS[kind]);
+    const value = f('value');
+    if (!value) {
+      c.error('missing-value', el.keyPos, `element \`${el.key}\` needs \`value:\``);
+      ok = false;
+      continue;
+    }
+    values.push({ key: el.key, keyPos: el.keyPos, value: value.value });
+    if (kind === 'transconductance') {
+      const into = scalarText(f('into')?.value ?? el.value)?.trim();
+      const from = f('from') ? scalarText(f('from')!.value)?.trim() : '0';
+      const control = nodeList(f('control')?.value);
+      if (!into || !from || !control || control.length !== 2) {
+        c.error('front-matter', el.keyPos, `transconductance \`${el.key}\` needs \`into: NODE\` (where its current goes; \`from:\` defaults to ground) and \`control: [P, N]\` (it carries value·(v(P) − v(N)))`);
+        ok = false;
+        continue;
+      }
+      elements.push({ name: el.key, kind, a: from, b: into, ctrlP: control[0], ctrlN: control[1], pos: el.keyPos });
+    } else {
+      const between = nodeList(f('between')?.value);
+      if (!between || between.length !== 2) {
+        c.error('front-matter', el.keyPos, `${kind} \`${el.key}\` needs \`between: [A, B]\`, the two nodes it joins`);
+        ok = false;
+        continue;
+      }
+      elements.push({ name: el.key, kind, a: between[0], b: between[1], pos: el.keyPos });
+    }
+  }
+  if (!ok || !input || !output || !nodes) return undefined;
+  const def: NetworkDef = { input, output, nodes, elements };
+  const problems = checkStructure(def, entry.keyPos);
+  for (const p of problems) c.error('network', p.pos, p.message);
+  if (problems.length) return undefined;
+  return { topology: networkTopology(def), values: { kind: 'map', entries: values, pos: elementsNode.pos } };
+}
+
 export function readSpec(path: string, root: YMap, start: Pos): { spec: Spec | null; findings: Finding[] } {
   const c = new Collector();
   const get = (key: string): YEntry | undefined => root.entries.find((e) => e.key === key);
@@ -202,20 +285,35 @@ export function readSpec(path: string, root: YMap, start: Pos): { spec: Spec | n
     return { spec: null, findings: c.findings };
   }
   const topoName = scalarText(topo.value)?.trim() ?? '';
-  const topology = TOPOLOGIES.find((t) => t.id === topoName);
+  let topology = TOPOLOGIES.find((t) => t.id === topoName);
+  let paramsNode: YNode | undefined = get('params')?.value;
+  if (topoName === 'network') {
+    const net = get('network');
+    if (!net) {
+      c.error('front-matter', topo.keyPos, '`topology: network` needs a `network:` block describing the nodes and elements');
+      return { spec: null, findings: c.findings };
+    }
+    if (get('params')) c.error('front-matter', get('params')!.keyPos, 'with `topology: network` the element values go in `network.elements` (`value:`), not in `params`');
+    const read = readNetwork(c, net);
+    if (!read) return { spec: null, findings: c.findings };
+    topology = read.topology;
+    paramsNode = read.values;
+  } else if (get('network')) {
+    c.error('front-matter', get('network')!.keyPos, `\`network:\` goes with \`topology: network\`; \`${topoName}\` builds its own network from \`params\``);
+  }
   if (!topology) {
-    const ids = TOPOLOGIES.map((t) => t.id);
+    const ids = [...TOPOLOGIES.map((t) => t.id), 'network'];
     const near = nearest(topoName, ids);
     c.error('unknown-key', topo.value.pos, `unknown topology \`${topoName}\`${near ? `; did you mean \`${near}\`?` : `; known: ${ids.join(', ')}`}`, near ? [`write \`topology: ${near}\``] : []);
     return { spec: null, findings: c.findings };
   }
-  const paramsEntry = get('params');
-  const params = readValues(c, paramsEntry?.value, topology.params, 'params');
+  const paramsEntry = topoName === 'network' ? get('network') : get('params');
+  const params = readValues(c, paramsNode, topology.params, topoName === 'network' ? 'network.elements' : 'params');
   const conditions = readValues(c, get('conditions')?.value, topology.conditions, 'conditions');
   const claims = readClaims(c, get('claims')?.value, topology);
   const paramsPos = paramsEntry?.keyPos ?? topo.keyPos;
 
-  const written = new Set(paramsEntry?.value.kind === 'map' ? paramsEntry.value.entries.map((e) => e.key) : []);
+  const written = new Set(paramsNode?.kind === 'map' ? paramsNode.entries.map((e) => e.key) : []);
   for (const p of topology.params) {
     // A param that is written but unreadable has its own error already.
     if (p.required && !written.has(p.key)) {

@@ -11,6 +11,7 @@
 import { type Figure, figure, missing } from '../engine/figure';
 import type { Element, Network } from '../engine/network';
 import { formatQuantity } from '../quantity';
+import { commonClaims, loadConditions, parallel } from './common';
 import type { Topology, Values } from './types';
 
 const TWO_PI = 2 * Math.PI;
@@ -19,7 +20,7 @@ const DEG = 180 / Math.PI;
 /** Output-node capacitance and resistance with the load included. */
 export function loaded(v: Values): { c2l: number; r2l: number } {
   const c2l = v.c2 + (v.cl ?? 0);
-  const r2l = v.rl !== undefined && Number.isFinite(v.rl) ? (v.r2 * v.rl) / (v.r2 + v.rl) : v.r2;
+  const r2l = parallel(v.r2, v.rl);
   return { c2l, r2l };
 }
 
@@ -38,21 +39,8 @@ export const twoStageMiller: Topology = {
     { key: 'i1', kind: 'current', description: 'first-stage tail current', plausible: [1e-9, 0.1] },
     { key: 'i2', kind: 'current', description: 'second-stage bias current', plausible: [1e-9, 0.1] },
   ],
-  conditions: [
-    { key: 'cl', kind: 'capacitance', allowZero: true, default: 0, description: 'load capacitance' },
-    { key: 'rl', kind: 'resistance', open: true, description: 'load resistance (absent or `open`: none)' },
-    { key: 'beta', kind: 'ratio', default: 1, max: 1, description: 'feedback factor of the loop, 1 for a unity-gain buffer' },
-  ],
-  claims: [
-    { key: 'dc_gain', kind: 'gain', better: 'higher', description: 'open-loop DC gain A0' },
-    { key: 'gbw', kind: 'frequency', better: 'higher', description: 'unity-gain frequency of the open-loop gain A(jω)' },
-    { key: 'p1', kind: 'frequency', description: 'lowest pole frequency of A(s)' },
-    { key: 'p2', kind: 'frequency', description: 'second-lowest pole frequency of A(s)' },
-    { key: 'rhp_zero', kind: 'frequency', description: 'right-half-plane zero of A(s)' },
-    { key: 'phase_margin', kind: 'angle', better: 'higher', description: 'phase margin of the loop gain β·A(jω)' },
-    { key: 'gain_margin', kind: 'gain', better: 'higher', description: 'gain margin of β·A(jω)' },
-    { key: 'slew_rate', kind: 'slew', better: 'higher', description: 'large-signal slew rate', needs: ['i1', 'i2'] },
-  ],
+  conditions: loadConditions,
+  claims: commonClaims.map((c) => (c.key === 'slew_rate' ? { ...c, needs: ['i1', 'i2'] } : c)),
 
   network(v: Values): Network {
     const { c2l } = loaded(v);
@@ -149,8 +137,8 @@ export const twoStageMiller: Topology = {
     if (claim !== 'phase_margin' && claim !== 'rhp_zero' && claim !== 'gain_margin') return [];
     const { c2l } = loaded(v);
     return [
-      { param: 'rz', value: 1 / v.gm2, why: 'rz = 1/gm2 cancels the right-half-plane zero' },
-      { param: 'rz', value: (v.cc + c2l) / (v.gm2 * v.cc), why: "rz = (cc + c2')/(gm2·cc) puts the zero on the second pole" },
+      { changes: { rz: 1 / v.gm2 }, why: 'rz = 1/gm2 cancels the right-half-plane zero' },
+      { changes: { rz: (v.cc + c2l) / (v.gm2 * v.cc) }, why: "rz = (cc + c2')/(gm2·cc) puts the zero on the second pole" },
     ];
   },
 };

@@ -41,8 +41,8 @@ export interface ClaimSpec {
 
 /** A design change proposed in closed form by the topology, to be checked through the model. */
 export interface DesignHint {
-  param: string;
-  value: number;
+  /** New values of one or more params. */
+  changes: Values;
   why: string;
 }
 
@@ -64,8 +64,17 @@ export interface Topology {
   beta(values: Values): number;
   /** Large-signal figures that no linear network gives (slew rate). */
   largeSignal(values: Values): Record<string, Figure>;
+  /** Exact figures particular to the topology (an input capacitance), from its network. */
+  figures?(values: Values): Record<string, Figure>;
+  /**
+   * Published sizing guides for the compensation (a Butterworth placement),
+   * reported beside the document's values.
+   */
+  sizing?(values: Values): DesignHint[];
   hand(values: Values, exact: Record<string, Figure>): HandEstimates;
   /** Params worth solving for, per claim, in order of preference. */
   knobs: Record<string, string[]>;
+  /** Why the network cannot be solved, in the document's terms, and where (user-defined networks). */
+  diagnose?(): { message: string; pos?: import('../spec/position').Pos } | undefined;
   hints(claim: string, values: Values): DesignHint[];
 }

@@ -1,0 +1,8 @@
+import { claimRule } from '../src/claim-rule';
+
+export default claimRule({
+  id: 'input-capacitance',
+  claim: 'input_capacitance',
+  noun: 'input capacitance',
+  description: 'The claimed input capacitance matches the low-frequency capacitance the exact network shows at its input (Miller effect included).',
+});

@@ -1,0 +1,120 @@
+// Single-stage OTA (telescopic or folded cascode), the output node dominant:
+// input transconductance gm into rout ∥ (cout + cl); optionally a cascode or
+// folding node (pole gm_cas/c_cas) in the signal path, and a current-mirror
+// node that carries half of the signal (a pole gm_mirror/c_mirror with a zero
+// at twice its frequency: the pole-zero doublet of a mirrored differential pair).
+//
+// Hand formulas: B. Razavi, "Design of Analog CMOS Integrated Circuits",
+// ch. 6 and 10 (one-stage op-amp poles, the mirror doublet); slew rate of a
+// one-stage OTA, i_tail/(cout + cl).
+
+import { type Figure, figure, missing } from '../engine/figure';
+import type { Element, Network } from '../engine/network';
+import { formatQuantity } from '../quantity';
+import { commonClaims, loadConditions, parallel } from './common';
+import type { Topology, Values } from './types';
+
+const TWO_PI = 2 * Math.PI;
+const DEG = 180 / Math.PI;
+
+const hasCascode = (v: Values) => v.gm_cas !== undefined && v.c_cas !== undefined;
+const hasMirror = (v: Values) => v.gm_mirror !== undefined && v.c_mirror !== undefined;
+
+export const singleStage: Topology = {
+  id: 'single-stage',
+  title: 'Single-stage OTA (telescopic or folded cascode)',
+  params: [
+    { key: 'gm', kind: 'conductance', required: true, description: 'input transconductance', plausible: [1e-7, 1] },
+    { key: 'rout', kind: 'resistance', required: true, description: 'output resistance', plausible: [1e3, 1e11] },
+    { key: 'cout', kind: 'capacitance', required: true, allowZero: true, description: 'output-node parasitic capacitance, load excluded', plausible: [1e-16, 1e-10] },
+    { key: 'gm_cas', kind: 'conductance', description: 'transconductance of the cascode (or folding) device at the non-dominant node', plausible: [1e-7, 1] },
+    { key: 'c_cas', kind: 'capacitance', description: 'capacitance of the cascode (or folding) node', plausible: [1e-16, 1e-10] },
+    { key: 'gm_mirror', kind: 'conductance', description: 'transconductance of the current-mirror diode device', plausible: [1e-7, 1] },
+    { key: 'c_mirror', kind: 'capacitance', description: 'capacitance of the current-mirror node', plausible: [1e-16, 1e-10] },
+    { key: 'i_tail', kind: 'current', description: 'tail current of the input pair', plausible: [1e-9, 0.1] },
+  ],
+  conditions: loadConditions,
+  claims: commonClaims.map((c) => (c.key === 'slew_rate' ? { ...c, needs: ['i_tail'] } : c)).filter((c) => c.key !== 'rhp_zero'),
+
+  network(v: Values): Network {
+    const mirror = hasMirror(v);
+    const direct = mirror ? v.gm / 2 : v.gm;
+    const elements: Element[] = [];
+    if (hasCascode(v)) {
+      // Signal current into the cascode's source node, then on to the output.
+      elements.push(
+        { kind: 'vccs', name: 'gm', a: 'xa', b: '0', ctrlP: 'in', ctrlN: '0', gm: direct },
+        { kind: 'conductance', name: '1/gm_cas', a: 'xa', b: '0', siemens: v.gm_cas },
+        { kind: 'capacitance', name: 'c_cas', a: 'xa', b: '0', farads: v.c_cas },
+        { kind: 'vccs', name: 'gm_cas', a: 'out', b: '0', ctrlP: 'xa', ctrlN: '0', gm: v.gm_cas },
+      );
+    } else {
+      elements.push({ kind: 'vccs', name: 'gm', a: '0', b: 'out', ctrlP: 'in', ctrlN: '0', gm: direct });
+    }
+    if (mirror) {
+      elements.push(
+        { kind: 'vccs', name: 'gm/2', a: '0', b: 'm', ctrlP: 'in', ctrlN: '0', gm: v.gm / 2 },
+        { kind: 'conductance', name: '1/gm_mirror', a: 'm', b: '0', siemens: v.gm_mirror },
+        { kind: 'capacitance', name: 'c_mirror', a: 'm', b: '0', farads: v.c_mirror },
+        { kind: 'vccs', name: 'gm_mirror', a: '0', b: 'out', ctrlP: 'm', ctrlN: '0', gm: v.gm_mirror },
+      );
+    }
+    elements.push(
+      { kind: 'conductance', name: 'rout', a: 'out', b: '0', siemens: 1 / v.rout },
+      { kind: 'capacitance', name: 'cout+cl', a: 'out', b: '0', farads: v.cout + (v.cl ?? 0) },
+    );
+    if (v.rl !== undefined && Number.isFinite(v.rl)) elements.push({ kind: 'conductance', name: 'rl', a: 'out', b: '0', siemens: 1 / v.rl });
+    return { elements, input: 'in', output: 'out' };
+  },
+
+  beta: (v) => v.beta ?? 1,
+
+  largeSignal(v: Values): Record<string, Figure> {
+    const how = 'SR = i_tail/(cout + cl)';
+    if (v.i_tail === undefined) return { slew_rate: missing('V/s', 'large-signal', how, 'needs the tail current i_tail') };
+    const c = v.cout + (v.cl ?? 0);
+    if (c <= 0) return { slew_rate: missing('V/s', 'large-signal', how, 'no capacitance at the output: the slew rate is not set by this stage') };
+    return { slew_rate: figure(v.i_tail / c, 'V/s', 'large-signal', how) };
+  },
+
+  hand(v: Values, exact: Record<string, Figure>) {
+    const rl = parallel(v.rout, v.rl);
+    const cl = v.cout + (v.cl ?? 0);
+    const beta = v.beta ?? 1;
+    const gbw = v.gm / (TWO_PI * cl);
+    const fc = beta * gbw;
+    const others: Array<{ name: string; f: number }> = [];
+    if (hasCascode(v)) others.push({ name: 'gm_cas/(2π·c_cas)', f: v.gm_cas / (TWO_PI * v.c_cas) });
+    if (hasMirror(v)) others.push({ name: 'gm_mirror/(2π·c_mirror)', f: v.gm_mirror / (TWO_PI * v.c_mirror) });
+    others.sort((a, b) => a.f - b.f);
+    const lagDeg = others.reduce((sum, p) => sum + Math.atan(fc / p.f) * DEG, 0);
+    // The mirror's doublet zero at 2·gm_mirror/c_mirror gives back part of its pole's lag.
+    const leadDeg = hasMirror(v) ? Math.atan(fc / ((2 * v.gm_mirror) / (TWO_PI * v.c_mirror))) * DEG : 0;
+    const figures: Record<string, Figure> = {
+      dc_gain: figure(20 * Math.log10(v.gm * rl), 'dB', 'hand-estimate', "A0 = gm·rout' (rout' = rout ∥ rl)"),
+      p1: figure(1 / (TWO_PI * rl * cl), 'Hz', 'hand-estimate', "p1 ≈ 1/(2π·rout'·(cout + cl))"),
+      gbw: figure(gbw, 'Hz', 'hand-estimate', 'GBW ≈ gm/(2π·(cout + cl))'),
+      phase_margin: figure(90 - lagDeg + leadDeg, 'deg', 'hand-estimate', `PM ≈ 90° − Σ atan(β·GBW/p_i) + atan(β·GBW/z_mirror), β·GBW = ${formatQuantity(fc, 'frequency')}`),
+    };
+    if (others.length) figures.p2 = figure(others[0].f, 'Hz', 'hand-estimate', `p2 ≈ ${others[0].name}`);
+    else figures.p2 = missing('Hz', 'hand-estimate', 'p2 from the non-dominant nodes', 'no non-dominant node is given (gm_cas/c_cas or gm_mirror/c_mirror)');
+    const caveats: string[] = [];
+    const egbw = exact.gbw?.value;
+    const ep2 = exact.p2?.value;
+    if (egbw && ep2 && egbw / ep2 > 0.5) caveats.push(`the one-pole picture of GBW assumes GBW ≪ p2; here GBW/p2 = ${(egbw / ep2).toPrecision(2)}`);
+    if (rl * cl * TWO_PI * fc < 10) caveats.push('the output pole is not far below the crossover: GBW ≈ gm/cl assumes A0 ≫ 1');
+    return { figures, caveats };
+  },
+
+  knobs: {
+    dc_gain: ['rout', 'gm'],
+    gbw: ['gm'],
+    p1: ['rout'],
+    p2: ['gm_cas', 'gm_mirror'],
+    phase_margin: ['gm_cas', 'gm_mirror', 'gm'],
+    gain_margin: ['gm_cas', 'gm'],
+    slew_rate: ['i_tail'],
+  },
+
+  hints: () => [],
+};
