@@ -95,8 +95,8 @@ export function analyzeNetwork(net: Network): NetworkAnalysis {
   const factored = (w: number): number => rootPhase(zeros, w) - rootPhase(poles, w);
 
   const mags = [...poles, ...zeros].map((r) => Math.hypot(r.re, r.im)).filter((v) => v > 0);
-  const wLo = mags.length ? Math.min(...mags) * 1e-4 : 1;
-  const wHi = mags.length ? Math.max(...mags) * 1e4 : 1e12;
+  const wLo = mags.length ? Math.min(...mags) * 1e-3 : 1;
+  const wHi = mags.length ? Math.max(...mags) * 1e3 : 1e12;
   const [r0, i0] = direct(wLo);
   // Constant part of the phase: 0 or ±π, read once near DC.
   const k = Math.round((Math.atan2(i0, r0) - factored(wLo)) / Math.PI);
@@ -130,7 +130,7 @@ interface Sweep {
 }
 
 function sweep(a: NetworkAnalysis, lo: number, hi: number, extra: number[]): Sweep {
-  const perDecade = 48;
+  const perDecade = 32;
   const decades = Math.log10(hi / lo);
   const count = Math.max(2, Math.ceil(decades * perDecade));
   const f: number[] = [];
@@ -148,6 +148,33 @@ function sweep(a: NetworkAnalysis, lo: number, hi: number, extra: number[]): Swe
 }
 
 /**
+ * Root of g(e^x) − target in [a, b] (x = ln f), bracketed by ga, gb of
+ * opposite signs: regula falsi with the Illinois modification, which keeps
+ * the bracket of bisection and converges superlinearly.
+ */
+function refine(g: (fHz: number) => number, target: number, a: number, b: number, ga: number, gb: number): number {
+  // Invariant: ga and gb have opposite signs; a and b need not be ordered.
+  for (let it = 0; it < 100; it++) {
+    const lo = Math.min(a, b);
+    const hi = Math.max(a, b);
+    if (hi - lo <= 1e-14 * Math.max(1, Math.abs(lo))) break;
+    let x = b - (gb * (b - a)) / (gb - ga);
+    if (!(x > lo && x < hi)) x = 0.5 * (lo + hi);
+    const gx = g(Math.exp(x)) - target;
+    if (gx === 0) return Math.exp(x);
+    if (gx * gb < 0) {
+      a = b;
+      ga = gb;
+    } else {
+      ga /= 2; // Illinois: the retained end's value is halved
+    }
+    b = x;
+    gb = gx;
+  }
+  return Math.exp(b);
+}
+
+/**
  * Frequencies (Hz) where g(f) = values − target changes sign on the sweep,
  * each refined by bisection in log f on the exact response.
  */
@@ -161,23 +188,7 @@ function signChanges(s: Sweep, values: number[], target: number, g: (fHz: number
       continue;
     }
     if (!(ga * gb < 0)) continue;
-    let a = Math.log(s.f[i - 1]);
-    let b = Math.log(s.f[i]);
-    let sa = ga;
-    for (let it = 0; it < 80 && b - a > 1e-15 * Math.abs(a + b) + 1e-300; it++) {
-      const mid = 0.5 * (a + b);
-      const gm = g(Math.exp(mid)) - target;
-      if (gm === 0) {
-        a = b = mid;
-        break;
-      }
-      if (gm * sa < 0) b = mid;
-      else {
-        a = mid;
-        sa = gm;
-      }
-    }
-    found.push(Math.exp(0.5 * (a + b)));
+    found.push(refine(g, target, Math.log(s.f[i - 1]), Math.log(s.f[i]), ga, gb));
   }
   return found;
 }
@@ -208,7 +219,18 @@ export function analyzeLoop(a: NetworkAnalysis, beta: number): LoopAnalysis {
   let hiA = hi;
   for (let i = 0; i < 30 && a.at(hiA).magDb > -20; i++) hiA *= 10;
   const lo = lo0;
-  const rootFreqs = [...a.poles, ...a.zeros].map(rootHz).filter((f) => f > 0);
+  // Besides each root's own frequency, a resonant pair's half-power points,
+  // so that a narrow peak cannot cross unity between two grid points unseen.
+  const rootFreqs: number[] = [];
+  for (const r of [...a.poles, ...a.zeros]) {
+    const f = rootHz(r);
+    if (!(f > 0)) continue;
+    rootFreqs.push(f);
+    if (r.im !== 0) {
+      const halfBandwidth = Math.abs(r.re) / (2 * Math.PI);
+      rootFreqs.push(Math.max(f - halfBandwidth, f / 2), f + halfBandwidth);
+    }
+  }
   const s = sweep(a, lo, Math.max(hi, hiA), rootFreqs);
   const mag = (f: number): number => a.at(f).magDb;
   const phase = (f: number): number => a.at(f).phaseDeg;
