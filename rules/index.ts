@@ -3,6 +3,7 @@
 import type { Rule } from '../src/rule';
 import bandwidth from './bandwidth';
 import compensationSizing from './compensation-sizing';
+import conflictingClaims from './conflicting-claims';
 import dcGain from './dc-gain';
 import dominantPole from './dominant-pole';
 import gainBandwidth from './gain-bandwidth';
@@ -33,4 +34,5 @@ export const RULES: readonly Rule[] = [
   handEstimateDrift,
   prefixSlip,
   compensationSizing,
+  conflictingClaims,
 ];

@@ -1,5 +1,7 @@
-// One document, end to end: read → evaluate at the typical point and the
-// corners → run the rules → findings, plus the model for the reviewer report.
+// One document, end to end: read → evaluate at each operating point (the
+// front matter's and each table row's own conditions), at the typical values
+// and the corners of the ranges → run the rules → findings, plus the models
+// for the reviewer report.
 
 import { RULES } from '../rules';
 import { type Evaluated, corners, evaluateCorner, typicalValues } from './evaluation';
@@ -7,16 +9,29 @@ import { type Finding, sortFindings } from './findings';
 import { type Model, ModelError, evaluate } from './model';
 import { readDocument } from './pipeline';
 import { type RuleContext, type RuleSettings, runRules } from './rule';
-import type { Spec } from './spec/types';
+import type { ClaimEntry, Spec } from './spec/types';
+import type { Values } from './topologies/types';
 import { DEFAULT_TOLERANCES, type Tolerances } from './verdict';
+
+/** The claims made at one operating point, and the models evaluated there. */
+export interface OperatingPoint {
+  /** Condition values that differ from the front matter's (empty for the front matter's own point). */
+  overrides: Values;
+  /** "cl = 10 pF, β = 0.5", or '' for the front matter's point. */
+  label: string;
+  claims: ClaimEntry[];
+  context: RuleContext;
+}
 
 export interface FileResult {
   path: string;
   skipped: boolean;
   findings: Finding[];
   spec?: Spec;
+  /** The model at the front matter's typical point. */
   model?: Model;
   context?: RuleContext;
+  points?: OperatingPoint[];
 }
 
 export interface CheckOptions {
@@ -24,30 +39,30 @@ export interface CheckOptions {
   tolerances?: Tolerances;
 }
 
-export function checkText(path: string, text: string, options: CheckOptions = {}): FileResult {
-  const read = readDocument(path, text);
-  if (read.kind === 'skipped') return { path, skipped: true, findings: [] };
-  const findings = [...read.findings];
-  const spec = read.spec;
-  if (!spec) return { path, skipped: false, findings: sortFindings(findings) };
+const pointKey = (v: Values): string => JSON.stringify(Object.entries(v).sort(([a], [b]) => a.localeCompare(b)));
 
-  const { corners: points, limited } = corners(spec);
-  const evaluated: Evaluated[] = points.map((c) => evaluateCorner(spec, c));
+function networkError(spec: Spec, message: string): Finding {
+  const why = spec.topology.diagnose?.();
+  const pos = why?.pos ?? spec.paramsPos;
+  return { rule: 'network', severity: 'error', line: pos.line, column: pos.column, claim: null, message: `the small-signal model cannot be solved${message}: ${why?.message ?? 'the network matrices are singular'}`, suggestions: [] };
+}
+
+function contextFor(spec: Spec, overrides: Values, claims: ClaimEntry[], options: CheckOptions, findings: Finding[], label: string): RuleContext | null {
+  // Overrides replace the front matter's conditions, at the typical point and at every corner.
+  const view: Spec = { ...spec, claims };
+  const { corners: points, limited } = corners(view);
+  const evaluated: Evaluated[] = points.map((c) => evaluateCorner(spec, { ...c, values: { ...c.values, ...overrides } }));
   const typical = evaluated[0];
+  const where = label ? ` at ${label}` : '';
   if (!typical.model) {
-    const why = spec.topology.diagnose?.();
-    const pos = why?.pos ?? spec.paramsPos;
-    findings.push({ rule: 'network', severity: 'error', line: pos.line, column: pos.column, claim: null, message: `the small-signal model cannot be solved: ${why?.message ?? typical.error}`, suggestions: [] });
-    return { path, skipped: false, findings: sortFindings(findings), spec };
+    findings.push(networkError(spec, where));
+    return null;
   }
-  for (const e of evaluated.slice(1)) {
-    if (!e.model) findings.push({ rule: 'network', severity: 'error', line: spec.paramsPos.line, column: spec.paramsPos.column, claim: null, message: `the small-signal model cannot be solved at the corner ${e.corner.label}: ${e.error}`, suggestions: [] });
-  }
-  const base = typicalValues(spec);
-  const model = typical.model;
-  const context: RuleContext = {
-    spec,
-    model,
+  for (const e of evaluated.slice(1)) if (!e.model) findings.push(networkError(spec, `${where} at the corner ${e.corner.label}`));
+  const base = { ...typicalValues(spec), ...overrides };
+  return {
+    spec: view,
+    model: typical.model,
     evaluated,
     cornersLimited: limited,
     tolerances: options.tolerances ?? DEFAULT_TOLERANCES,
@@ -60,6 +75,41 @@ export function checkText(path: string, text: string, options: CheckOptions = {}
       }
     },
   };
-  findings.push(...runRules(RULES, context, options.rules));
-  return { path, skipped: false, findings: sortFindings(findings), spec, model, context };
+}
+
+export function checkText(path: string, text: string, options: CheckOptions = {}): FileResult {
+  const read = readDocument(path, text);
+  if (read.kind === 'skipped') return { path, skipped: true, findings: [] };
+  const findings = [...read.findings];
+  const spec = read.spec;
+  if (!spec) return { path, skipped: false, findings: sortFindings(findings) };
+
+  // Group the claims by operating point; a row whose conditions equal the front matter's joins it.
+  const typical = typicalValues(spec);
+  const groups = new Map<string, { overrides: Values; label: string; claims: ClaimEntry[] }>();
+  groups.set(pointKey({}), { overrides: {}, label: '', claims: [] });
+  for (const c of spec.claims) {
+    const overrides: Values = {};
+    for (const [k, v] of Object.entries(c.conditions?.values ?? {})) if (typical[k] !== v && !(v === Infinity && typical[k] === undefined)) overrides[k] = v;
+    const key = pointKey(overrides);
+    if (!groups.has(key)) groups.set(key, { overrides, label: c.conditions?.text ?? '', claims: [] });
+    groups.get(key)!.claims.push(c);
+  }
+
+  const points: OperatingPoint[] = [];
+  for (const g of groups.values()) {
+    const ctx = contextFor(spec, g.overrides, g.claims, options, findings, g.label);
+    if (!ctx) {
+      if (points.length === 0) return { path, skipped: false, findings: sortFindings(findings), spec };
+      continue;
+    }
+    points.push({ ...g, context: ctx });
+  }
+  const [front, ...rows] = points;
+  const claimRules = RULES.filter((r) => r.scope === 'claims');
+  const designRules = RULES.filter((r) => r.scope !== 'claims');
+  findings.push(...runRules(claimRules, front.context, options.rules));
+  findings.push(...runRules(designRules, { ...front.context, spec }, options.rules));
+  for (const p of rows) findings.push(...runRules(claimRules, p.context, options.rules));
+  return { path, skipped: false, findings: sortFindings(findings), spec, model: front.context.model, context: front.context, points };
 }

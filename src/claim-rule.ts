@@ -5,6 +5,7 @@
 import { conditionsText } from './evaluation';
 import type { Figure } from './engine/figure';
 import { correctedClaim, designChanges } from './fixes';
+import { worstCase } from './worst-case';
 import type { Draft, Rule, RuleContext } from './rule';
 import { CANONICAL_UNIT } from './quantity';
 import type { ClaimEntry } from './spec/types';
@@ -34,19 +35,6 @@ function pointsOf(ctx: RuleContext, claim: string): Point[] {
   }));
 }
 
-/** The point that decides a bound: the lowest value for min, the highest for max. */
-function worst(points: Point[], bound: 'min' | 'max'): Point {
-  let w = points[0];
-  for (const p of points) {
-    if (p.value === null) {
-      if (!p.figure?.reason?.includes('unbounded')) return p; // a missing figure fails any bound
-      continue;
-    }
-    if (w.value === null || (bound === 'min' ? p.value < w.value : p.value > w.value)) w = p;
-  }
-  return w;
-}
-
 export function claimRule(def: ClaimRuleSpec): Rule {
   return {
     id: def.id,
@@ -54,6 +42,7 @@ export function claimRule(def: ClaimRuleSpec): Rule {
     severity: 'error',
     concerns: [def.claim],
     options: {},
+    scope: 'claims',
     check(ctx) {
       const out: Draft[] = [];
       for (const entry of ctx.spec.claims.filter((c) => c.key === def.claim)) out.push(...checkEntry(ctx, def, entry));
@@ -72,7 +61,8 @@ function checkEntry(ctx: RuleContext, def: ClaimRuleSpec, entry: ClaimEntry): Dr
   if (entry.typ) verdicts.push(...judge({ ...entry, min: undefined, max: undefined }, typical.value, typical.figure, t).map((v) => ({ v, at: typical })));
   for (const bound of ['min', 'max'] as const) {
     if (!entry[bound]) continue;
-    const at = worst(points, bound);
+    const w = worstCase(ctx, def.claim, bound);
+    const at: Point = { label: w.label, where: conditionsText(ctx.spec, w.values), figure: w.figure, value: w.value };
     const only = { ...entry, typ: undefined, min: bound === 'min' ? entry.min : undefined, max: bound === 'max' ? entry.max : undefined };
     verdicts.push(...judge(only, at.value, at.figure, t).map((v) => ({ v, at })));
   }

@@ -27,12 +27,20 @@ export function typicalValues(spec: Spec): Values {
 }
 
 /** Most ranged keys whose every vertex is enumerated (2^n corners). */
-export const MAX_VERTEX_KEYS = 10;
+export const MAX_VERTEX_KEYS = 6;
+
+/** The ranged params and conditions of a spec, with their ends. */
+export function rangedKeys(spec: Spec): Array<{ key: string; lo: number; hi: number }> {
+  return entries(spec)
+    .filter((e) => e.min || e.max)
+    .map((e) => ({ key: e.key, lo: (e.min ?? e.typ).quantity.value, hi: (e.max ?? e.typ).quantity.value }));
+}
 
 /**
  * The typical point followed by the vertices of the box spanned by the
  * ranged params and conditions. Beyond MAX_VERTEX_KEYS ranged keys, each key
- * is taken to its ends one at a time instead (and `limited` says so).
+ * is taken to its ends one at a time instead (and `limited` says so); the
+ * worst-case search (worst-case.ts) then builds the worst vertex from them.
  */
 export function corners(spec: Spec): { corners: Corner[]; limited: boolean } {
   const typ = typicalValues(spec);

@@ -37,6 +37,13 @@ export function correctedClaim(entry: ClaimEntry, verdicts: BoundVerdict[], comp
     const written = entry[v.bound]!.quantity.written;
     const side = v.bound === 'min' ? 'at-most' : v.bound === 'max' ? 'at-least' : 'nearest';
     const text = formatBound(computed, written, entry.spec.kind, side);
+    if (entry.source === 'table') {
+      const cell = v.bound === 'typ' ? 'Typ' : v.bound === 'min' ? 'Min' : 'Max';
+      out.push(v.bound === 'typ'
+        ? `if the design is right, the ${cell} cell of \`${entry.label}\` should read \`${text}\` (model value at ${where})`
+        : `if the design stands, the ${cell} cell of \`${entry.label}\` the model supports is \`${text}\` (at ${where})`);
+      continue;
+    }
     out.push(v.bound === 'typ'
       ? `if the design is right, the claim should read ${key(entry, 'typ', text)} (model value at ${where})`
       : `if the design stands, the bound the model supports is ${key(entry, v.bound, text)} (at ${where})`);

@@ -9,6 +9,7 @@ import { unified } from 'unified';
 import type { Finding } from './findings';
 import { readSpec } from './spec/schema';
 import { LineIndex } from './spec/position';
+import { readTables } from './spec/tables';
 import type { Spec } from './spec/types';
 import { parseYaml } from './spec/yaml';
 
@@ -60,5 +61,10 @@ export function readDocument(path: string, raw: string): ReadResult {
   if (!parsed.ok) return { kind: 'spec', spec: null, findings: [inputError('yaml-syntax', parsed.error.pos, parsed.error.message)] };
   if (!parsed.root || parsed.root.kind !== 'map' || !parsed.root.entries.some((e) => e.key === 'polecheck')) return { kind: 'skipped' };
   const { spec, findings } = readSpec(path, parsed.root, index.pos(start));
+  if (spec) {
+    const tables = readTables(tree as never, spec.topology);
+    spec.claims.push(...tables.claims);
+    findings.push(...tables.findings);
+  }
   return { kind: 'spec', spec, findings };
 }

@@ -34,6 +34,13 @@ export interface Rule {
   concerns: string[];
   /** Options with their defaults. */
   options: RuleOptions;
+  /**
+   * `claims`: judges claims one by one, and runs once per operating point
+   * (the front matter's, and each table row's own conditions), seeing only the
+   * claims made there. `design` (default): runs once, on the whole spec at
+   * the front matter's operating point.
+   */
+  scope?: 'claims' | 'design';
   check(ctx: RuleContext, options: RuleOptions): Draft[];
 }
 

@@ -11,6 +11,7 @@ import { formatQuantity } from '../quantity';
 import type { ClaimEntry } from '../spec/types';
 import type { Paint } from './style';
 import { CAUTION } from './summary';
+import { claimResults } from '../results';
 
 const claimedText = (c: ClaimEntry | undefined): string => {
   if (!c) return '—';
@@ -47,17 +48,35 @@ export function reviewReport(results: FileResult[], p: Paint): string {
     const { spec, model } = r;
     out.push(p.bold(`${spec.block ?? '(no block id)'} — ${spec.title ?? spec.topology.title}`));
     out.push(`  ${r.path} · ${spec.topology.id} · at ${conditionsText(spec, model.values)}`);
-    const rows: string[][] = [['claim', 'claimed', 'exact model', 'hand estimate', 'hand error', 'verdict']];
+    const ranged = [...spec.params.values(), ...spec.conditions.values()].filter((e) => e.min || e.max);
+    if (ranged.length) {
+      const span = (e: (typeof ranged)[number]) =>
+        `${e.key} ${e.min ? formatQuantity(e.min.quantity.value, e.spec.kind) : '…'} to ${e.max ? formatQuantity(e.max.quantity.value, e.spec.kind) : '…'} (typ ${formatQuantity(e.typ.quantity.value, e.spec.kind)}${e.typIsMidpoint ? ', the midpoint: no typ given' : ''})`;
+      out.push(`  ranges: ${ranged.map(span).join('; ')}; bounds are checked at the worst corner`);
+    }
+    const none = (f: Figure | undefined) => (f?.reason?.includes('unbounded') ? 'unbounded' : 'none');
+    const show = (v: number | null, f: Figure | undefined, kind: Parameters<typeof formatQuantity>[1]) => (v === null ? none(f) : formatQuantity(v, kind));
+    const verdictText = { holds: p.green('holds'), thin: p.yellow('thin margin'), fails: p.red('fails') };
+    const rows: string[][] = [['claim', 'stated in', 'conditions', 'claimed', 'exact model', 'worst corner', 'hand estimate', 'hand error', 'verdict']];
+    const results = claimResults(r);
     for (const cs of spec.topology.claims) {
-      const entry = spec.claims.find((c) => c.key === cs.key);
-      const exact = model.exact[cs.key];
+      const mine = results.filter((x) => x.entry.key === cs.key);
       const hand = model.hand[cs.key];
-      const fs = r.findings.filter((f) => f.claim === cs.key && (f.rule !== 'hand-estimate-drift' || f.severity === 'error'));
-      const verdict = !entry ? p.dim('not claimed') : fs.some((f) => f.severity === 'error') ? p.red('fails') : fs.some((f) => f.severity === 'warning') ? p.yellow('thin margin') : p.green('holds');
-      const none = (f: Figure) => (f.reason?.includes('unbounded') ? 'unbounded' : 'none');
-      const ex = exact ? (exact.value === null ? none(exact) : formatQuantity(exact.value, cs.kind)) : '—';
-      const hd = hand ? (hand.value === null ? none(hand) : formatQuantity(hand.value, cs.kind)) : '—';
-      rows.push([cs.key, claimedText(entry), ex, hd, handError(hand, exact, exact?.unit ?? 'Hz'), verdict]);
+      const handText = hand ? (hand.value === null ? none(hand) : formatQuantity(hand.value, cs.kind)) : '—';
+      if (!mine.length) {
+        const exact = model.exact[cs.key];
+        rows.push([cs.key, '', '', '—', exact ? show(exact.value, exact, cs.kind) : '—', '', handText, handError(hand, exact, exact?.unit ?? 'Hz'), p.dim('not claimed')]);
+        continue;
+      }
+      for (const x of mine) {
+        const where = x.entry.source === 'table' ? `table: ${x.entry.label}` : 'front matter';
+        const conditions = x.point.label || '—';
+        const exactText = x.bounds.map((b) => `${b.bound === 'typ' ? '' : b.bound === 'min' ? 'min ' : 'max '}${show(b.value, b.figure, cs.kind)}`).join(', ');
+        const corners = x.bounds.filter((b) => b.bound !== 'typ').map((b) => b.corner).join('; ') || '—';
+        const typFig = x.point.context.model.exact[cs.key];
+        const xh = x.hand;
+        rows.push([cs.key, where, conditions, claimedText(x.entry), exactText, corners, xh ? (xh.value === null ? none(xh) : formatQuantity(xh.value, cs.kind)) : '—', handError(xh, typFig, typFig?.unit ?? 'Hz'), verdictText[x.verdict]]);
+      }
     }
     out.push(...table(rows, p).map((l) => `  ${l}`));
     // Real roots as signed frequencies; a conjugate pair once, as |p| with its Q.

@@ -1,5 +1,5 @@
 import type { Quantity } from '../quantity';
-import type { ClaimSpec, KeySpec, Topology } from '../topologies/types';
+import type { ClaimSpec, KeySpec, Topology, Values } from '../topologies/types';
 import type { Pos } from './position';
 
 export interface QuantityAt {
@@ -21,6 +21,14 @@ export interface ValueEntry {
   open?: boolean;
 }
 
+/** A table row's own operating point: condition values that replace the front matter's. */
+export interface RowConditions {
+  values: Values;
+  /** As shown in messages: "cl = 10 pF, β = 0.5". */
+  text: string;
+  pos: Pos;
+}
+
 export interface ClaimEntry {
   key: string;
   keyPos: Pos;
@@ -30,6 +38,12 @@ export interface ClaimEntry {
   max?: QuantityAt;
   /** Written as a plain value (a typical claim), not as bounds. */
   plain: boolean;
+  /** Where it is stated; front matter when absent. */
+  source?: 'front-matter' | 'table';
+  /** The table row's Parameter cell. */
+  label?: string;
+  /** Conditions of a table row that override the front matter's. */
+  conditions?: RowConditions;
 }
 
 export interface Spec {

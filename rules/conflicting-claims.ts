@@ -1,0 +1,59 @@
+import { typicalValues } from '../src/evaluation';
+import type { Draft, Rule } from '../src/rule';
+import type { ClaimEntry } from '../src/spec/types';
+import { toleranceFor } from '../src/verdict';
+
+// The same claim at the same operating point, stated twice (front matter and
+// a table, or two table rows), with values no figure can satisfy at once.
+const rule: Rule = {
+  id: 'conflicting-claims',
+  description: 'The same claim stated twice at the same conditions with values that cannot both hold.',
+  severity: 'error',
+  concerns: ['claims'],
+  options: {},
+  check(ctx) {
+    const typical = typicalValues(ctx.spec);
+    const point = (c: ClaimEntry) => JSON.stringify(Object.entries({ ...typical, ...(c.conditions?.values ?? {}) }).sort(([a], [b]) => a.localeCompare(b)));
+    // The values a figure may take for the claim to hold: typ ± tolerance, ≥ min, ≤ max.
+    const interval = (c: ClaimEntry): [number, number] => {
+      const t = toleranceFor(c.spec.kind, ctx.tolerances);
+      let lo = -Infinity;
+      let hi = Infinity;
+      if (c.typ) {
+        const v = c.typ.quantity.value;
+        const d = t.relative ? Math.abs(v) * t.value : t.value;
+        lo = Math.max(lo, v - d);
+        hi = Math.min(hi, v + d);
+      }
+      if (c.min) lo = Math.max(lo, c.min.quantity.value);
+      if (c.max) hi = Math.min(hi, c.max.quantity.value);
+      return [lo, hi];
+    };
+    const where = (c: ClaimEntry) => (c.source === 'table' ? `the table row \`${c.label}\`` : 'the front matter');
+    const stated = (c: ClaimEntry) => [c.typ && c.typ.quantity.written.text, c.min && `≥ ${c.min.quantity.written.text}`, c.max && `≤ ${c.max.quantity.written.text}`].filter(Boolean).join(', ');
+    const out: Draft[] = [];
+    const claims = ctx.spec.claims;
+    for (let j = 0; j < claims.length; j++) {
+      for (let i = 0; i < j; i++) {
+        const a = claims[i];
+        const b = claims[j];
+        if (a.key !== b.key || point(a) !== point(b)) continue;
+        const [alo, ahi] = interval(a);
+        const [blo, bhi] = interval(b);
+        if (Math.max(alo, blo) <= Math.min(ahi, bhi)) continue;
+        const pos = (b.typ ?? b.min ?? b.max)!.pos;
+        const first = (a.typ ?? a.min ?? a.max)!.pos;
+        out.push({
+          line: pos.line,
+          column: pos.column,
+          claim: b.key,
+          message: `${b.key} is stated as ${stated(b)} in ${where(b)} and as ${stated(a)} in ${where(a)} (line ${first.line}) at the same conditions; both cannot hold`,
+          suggestions: ['keep one statement, or give the table row the conditions it was measured at'],
+          related: [{ line: first.line, column: first.column, message: `${b.key} stated as ${stated(a)} here` }],
+        });
+      }
+    }
+    return out;
+  },
+};
+export default rule;

@@ -1,0 +1,236 @@
+// Datasheet tables in the Markdown body (SPEC-FORMAT §3): a GFM table whose
+// header has a `Parameter` column and at least one of Min, Typ, Max (optional
+// Symbol, Conditions, Unit). Each row that names a known claim becomes a claim
+// at its own conditions; the findings point at the cells.
+
+import type { Finding } from '../findings';
+import { type Kind, parseQuantity } from '../quantity';
+import type { KeySpec, Topology, Values } from '../topologies/types';
+import { editDistance, nearest } from './nearest';
+import type { Pos } from './position';
+import type { ClaimEntry, QuantityAt, RowConditions } from './types';
+
+// Minimal mdast shapes, so this module does not depend on @types/mdast.
+interface MdNode {
+  type: string;
+  value?: string;
+  children?: MdNode[];
+  position?: { start: { line: number; column: number; offset?: number } };
+}
+
+/**
+ * How datasheets name each claim, by symbol or by parameter name, compared
+ * after lower-casing and dropping spaces, hyphens, underscores and dots.
+ */
+export const CLAIM_ALIASES: Record<string, string[]> = {
+  dc_gain: ['A0', 'AOL', 'AVOL', 'AV0', 'DC gain', 'Open-loop gain', 'Open-loop DC gain', 'DC open-loop gain', 'Open-loop voltage gain', 'Large-signal voltage gain'],
+  gbw: ['GBW', 'GBP', 'UGF', 'UGB', 'fu', 'Gain-bandwidth', 'Gain-bandwidth product', 'Gain bandwidth', 'Unity-gain bandwidth', 'Unity-gain frequency'],
+  p1: ['p1', 'fp1', 'Dominant pole', 'First pole'],
+  p2: ['p2', 'fp2', 'Second pole', 'Non-dominant pole'],
+  rhp_zero: ['z', 'fz', 'RHP zero', 'Right-half-plane zero', 'Right half-plane zero'],
+  phase_margin: ['PM', 'φm', 'Phase margin'],
+  gain_margin: ['Gain margin'],
+  slew_rate: ['SR', 'Slew rate'],
+  bandwidth: ['BW', 'f-3dB', 'f3dB', '−3 dB bandwidth', '-3 dB bandwidth', 'Bandwidth', 'Small-signal bandwidth'],
+  input_capacitance: ['Cin', 'CIN', 'Input capacitance'],
+};
+
+/** Condition names as datasheets write them. */
+const CONDITION_ALIASES: Record<string, string[]> = {
+  cl: ['CL', 'CLOAD', 'Load capacitance'],
+  rl: ['RL', 'RLOAD', 'Load resistance'],
+  beta: ['β', 'beta', 'B', 'Feedback factor'],
+  rs: ['RS', 'Source resistance'],
+};
+
+/** Datasheet conditions outside the small-signal model (supplies, temperature, signal). */
+const OUTSIDE_MODEL = new Set(['t', 'ta', 'tj', 'temp', 'temperature', 'vdd', 'vcc', 'vs', 'vss', 'vee', 'vcm', 'vin', 'vout', 'vo', 'f', 'freq', 'avcl', 'g', 'gain']);
+
+const norm = (s: string): string => s.toLowerCase().replace(/[\s\-_.]/g, '').replace(/\u2212/g, '-');
+
+const EMPTY = new Set(['', '—', '–', '-', '−', 'n/a', 'na', '…']);
+
+function text(n: MdNode): string {
+  if (n.type === 'text' || n.type === 'inlineCode') return n.value ?? '';
+  return (n.children ?? []).map(text).join('');
+}
+
+function firstTextPos(n: MdNode): Pos | undefined {
+  if ((n.type === 'text' || n.type === 'inlineCode') && n.position) {
+    const s = n.position.start;
+    return { line: s.line, column: s.column + (n.type === 'inlineCode' ? 1 : 0), offset: s.offset ?? 0 };
+  }
+  for (const c of n.children ?? []) {
+    const p = firstTextPos(c);
+    if (p) return p;
+  }
+  return undefined;
+}
+
+interface Cell {
+  text: string;
+  pos: Pos;
+}
+
+function cellOf(n: MdNode | undefined): Cell | undefined {
+  if (!n?.position) return undefined;
+  const raw = text(n);
+  const start = firstTextPos(n) ?? { line: n.position.start.line, column: n.position.start.column, offset: n.position.start.offset ?? 0 };
+  // Point at the first visible character, past leading spaces of the text.
+  const lead = raw.length - raw.trimStart().length;
+  return { text: raw.trim(), pos: { ...start, column: start.column + lead, offset: start.offset + lead } };
+}
+
+export interface TableResult {
+  claims: ClaimEntry[];
+  findings: Finding[];
+}
+
+const finding = (rule: string, severity: Finding['severity'], pos: Pos, message: string, suggestions: string[] = [], claim: string | null = null): Finding => ({
+  rule,
+  severity,
+  line: pos.line,
+  column: pos.column,
+  claim,
+  message,
+  suggestions,
+});
+
+function matchClaim(topology: Topology, symbol: string | undefined, name: string): string | undefined {
+  const known = new Set(topology.claims.map((c) => c.key));
+  for (const candidate of [symbol, name]) {
+    if (!candidate) continue;
+    const n = norm(candidate);
+    for (const [key, aliases] of Object.entries(CLAIM_ALIASES)) {
+      if (known.has(key) && (norm(key) === n || aliases.some((a) => norm(a) === n))) return key;
+    }
+  }
+  return undefined;
+}
+
+/** Parses `CL = 10 pF, β = 0.5; RL = 2 kΩ` into condition overrides. */
+function readConditions(cell: Cell, topology: Topology, out: Finding[]): RowConditions | null | undefined {
+  if (EMPTY.has(cell.text.toLowerCase())) return undefined;
+  const values: Values = {};
+  const shown: string[] = [];
+  let ok = true;
+  let offset = 0;
+  for (const part of cell.text.split(/[,;]/)) {
+    const at: Pos = { ...cell.pos, column: cell.pos.column + offset + (part.length - part.trimStart().length), offset: cell.pos.offset + offset };
+    offset += part.length + 1;
+    const item = part.trim();
+    if (!item) continue;
+    const eq = item.match(/^([^=]+?)\s*=\s*(.+)$/);
+    if (!eq) {
+      out.push(finding('table', 'info', at, `condition \`${item}\` is not of the form \`NAME = VALUE\`; ignored`));
+      continue;
+    }
+    const [, rawName, rawValue] = eq;
+    const key = Object.entries(CONDITION_ALIASES).find(([k, aliases]) => norm(k) === norm(rawName) || aliases.some((a) => norm(a) === norm(rawName)))?.[0];
+    const spec: KeySpec | undefined = topology.conditions.find((c) => c.key === key);
+    if (!spec) {
+      // Supply, temperature and signal conditions are common in datasheets and outside the model.
+      const near = nearest(rawName, Object.values(CONDITION_ALIASES).flat());
+      if (near && !OUTSIDE_MODEL.has(norm(rawName)) && editDistance(norm(rawName), norm(near)) <= 1) {
+        const k = Object.entries(CONDITION_ALIASES).find(([, a]) => a.includes(near))![0];
+        out.push(finding('unknown-key', 'error', at, `unknown condition \`${rawName}\`; did you mean \`${near}\` (${k})?`, [`write \`${near} = ${rawValue}\``]));
+        ok = false;
+      } else {
+        out.push(finding('table', 'info', at, `condition \`${rawName}\` is not part of the small-signal model; it is ignored`));
+      }
+      continue;
+    }
+    if (spec.open && rawValue.trim().toLowerCase() === 'open') {
+      values[spec.key] = Infinity;
+      shown.push(`${spec.key} open`);
+      continue;
+    }
+    const q = parseQuantity(rawValue.trim(), spec.kind);
+    if (!q.ok) {
+      out.push(finding('wrong-unit', 'error', at, `condition \`${item}\`: ${q.message}`, q.hint ? [`write \`${q.hint}\``] : []));
+      ok = false;
+      continue;
+    }
+    values[spec.key] = q.quantity.value;
+    shown.push(`${spec.key === 'beta' ? 'β' : spec.key} = ${q.quantity.written.text}`);
+  }
+  if (!ok) return null;
+  return Object.keys(values).length ? { values, text: shown.join(', '), pos: cell.pos } : undefined;
+}
+
+function readBound(cell: Cell | undefined, unitCell: Cell | undefined, kind: Kind, key: string, out: Finding[]): QuantityAt | null | undefined {
+  if (!cell || EMPTY.has(cell.text.toLowerCase())) return undefined;
+  const unit = unitCell && !EMPTY.has(unitCell.text.toLowerCase()) ? unitCell.text : '';
+  // The unit column applies to cells that carry only a number.
+  const bare = /^[+\-\u2212]?(\d+\.?\d*|\.\d+)([eE][+\-\u2212]?\d+)?$/.test(cell.text);
+  const textWithUnit = bare && unit ? `${cell.text}${unit === '°' || unit === '%' ? '' : ' '}${unit}` : cell.text;
+  const q = parseQuantity(textWithUnit, kind);
+  if (!q.ok) {
+    out.push(finding('wrong-unit', 'error', cell.pos, `\`${key}\` cell \`${cell.text}\`${bare && unit ? ` with unit \`${unit}\`` : ''}: ${q.message}`, q.hint ? [`write \`${q.hint}\``] : [], key));
+    return null;
+  }
+  return { quantity: q.quantity, pos: cell.pos };
+}
+
+export function readTables(tree: { children: MdNode[] }, topology: Topology): TableResult {
+  const claims: ClaimEntry[] = [];
+  const findings: Finding[] = [];
+  const visit = (n: MdNode): void => {
+    if (n.type === 'table') readTable(n, topology, claims, findings);
+    else for (const c of n.children ?? []) visit(c);
+  };
+  for (const c of tree.children) visit(c);
+  return { claims, findings };
+}
+
+function readTable(table: MdNode, topology: Topology, claims: ClaimEntry[], findings: Finding[]): void {
+  const rows = table.children ?? [];
+  if (rows.length < 2) return;
+  const header = (rows[0].children ?? []).map((c) => norm(text(c)));
+  const col = (name: string) => header.indexOf(name);
+  const iParam = col('parameter');
+  const bounds = { min: col('min'), typ: col('typ'), max: col('max') };
+  if (iParam < 0 || (bounds.min < 0 && bounds.typ < 0 && bounds.max < 0)) return; // not a datasheet table
+  const iSymbol = col('symbol');
+  const iCond = col('conditions') >= 0 ? col('conditions') : col('condition');
+  const iUnit = col('unit') >= 0 ? col('unit') : col('units');
+  const aliasNames = Object.entries(CLAIM_ALIASES).flatMap(([k, a]) => [k, ...a]);
+  for (const row of rows.slice(1)) {
+    const cells = row.children ?? [];
+    const get = (i: number) => (i >= 0 ? cellOf(cells[i]) : undefined);
+    const name = get(iParam);
+    if (!name || !name.text) continue;
+    const symbol = get(iSymbol);
+    const key = matchClaim(topology, symbol?.text, name.text);
+    if (!key) {
+      // Only a near miss of a long name suggests a misspelt claim; short symbols match too much.
+      const near = nearest(name.text, aliasNames.filter((a) => a.length > 4));
+      if (near && editDistance(norm(name.text), norm(near)) <= Math.max(1, Math.floor(norm(near).length / 5))) findings.push(finding('table', 'info', name.pos, `row \`${name.text}\` names no claim polecheck checks; did you mean \`${near}\`?`));
+      continue;
+    }
+    const spec = topology.claims.find((c) => c.key === key)!;
+    const rowFindings: Finding[] = [];
+    const unit = get(iUnit);
+    const entry: ClaimEntry = { key, keyPos: name.pos, spec, plain: false, source: 'table', label: name.text };
+    let ok = true;
+    for (const b of ['min', 'typ', 'max'] as const) {
+      const q = readBound(get(bounds[b]), unit, spec.kind, key, rowFindings);
+      if (q === null) ok = false;
+      else if (q) entry[b] = q;
+    }
+    const cond = iCond >= 0 ? get(iCond) : undefined;
+    const conditions = cond ? readConditions(cond, topology, rowFindings) : undefined;
+    findings.push(...rowFindings);
+    if (!ok || conditions === null) continue;
+    if (!entry.min && !entry.typ && !entry.max) {
+      findings.push(finding('table', 'info', name.pos, `row \`${name.text}\` gives no value in Min, Typ or Max`, [], key));
+      continue;
+    }
+    if (entry.min && entry.max && entry.min.quantity.value > entry.max.quantity.value) {
+      findings.push(finding('invalid-value', 'error', entry.min.pos, `row \`${name.text}\` has Min above Max`, [], key));
+      continue;
+    }
+    if (conditions) entry.conditions = conditions;
+    claims.push(entry);
+  }
+}
