@@ -41,8 +41,9 @@ const rule: Rule = {
         const [alo, ahi] = interval(a);
         const [blo, bhi] = interval(b);
         if (Math.max(alo, blo) <= Math.min(ahi, bhi)) continue;
-        const pos = (b.typ ?? b.min ?? b.max)!.pos;
-        const first = (a.typ ?? a.min ?? a.max)!.pos;
+        const place = (c: ClaimEntry) => (c.source === 'table' ? (c.typ ?? c.min ?? c.max)!.pos : c.keyPos);
+        const pos = place(b);
+        const first = place(a);
         out.push({
           line: pos.line,
           column: pos.column,

@@ -1,6 +1,6 @@
 import { formatQuantity } from '../src/quantity';
 import type { Draft, Rule } from '../src/rule';
-import { holdsAll, judge, toleranceFor } from '../src/verdict';
+import { holdsAll, judge, percent, toleranceFor } from '../src/verdict';
 
 // When the first-order formulas are off, a document whose numbers agree with
 // them rather than with the exact model was most likely computed by hand.
@@ -10,6 +10,7 @@ const rule: Rule = {
   severity: 'warning',
   concerns: ['dc_gain', 'gbw', 'p1', 'p2', 'rhp_zero', 'phase_margin'],
   options: { drift: 0.1 },
+  scope: 'claims',
   check(ctx, options) {
     const out: Draft[] = [];
     for (const entry of ctx.spec.claims) {
@@ -24,11 +25,11 @@ const rule: Rule = {
       if (drift <= options.drift) continue;
       const typOnly = { ...entry, min: undefined, max: undefined };
       if (!holdsAll(judge(typOnly, hand.value, hand, t)) || holdsAll(judge(typOnly, exact.value, exact, t))) continue;
-      const off = t.relative ? `${(100 * drift).toPrecision(2)} % off` : `${formatQuantity(Math.abs(hand.value - exact.value), kind, 2)} off`;
+      const off = t.relative ? `${percent(100 * drift)} % off` : `${formatQuantity(Math.abs(hand.value - exact.value), kind, 2)} off`;
       const caveats = ctx.model.caveats.length ? ` (${ctx.model.caveats.join('; ')})` : '';
       out.push({
-        line: entry.typ.pos.line,
-        column: entry.typ.pos.column,
+        line: (entry.source === 'table' ? entry.typ.pos : entry.keyPos).line,
+        column: (entry.source === 'table' ? entry.typ.pos : entry.keyPos).column,
         claim: entry.key,
         computed: exact.value,
         unit: kind === 'angle' ? 'deg' : kind === 'gain' ? 'dB' : 'Hz',

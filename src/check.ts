@@ -12,6 +12,7 @@ import { type RuleContext, type RuleSettings, runRules } from './rule';
 import type { ClaimEntry, Spec } from './spec/types';
 import type { Values } from './topologies/types';
 import { DEFAULT_TOLERANCES, type Tolerances } from './verdict';
+import { applyWaivers, todayIso } from './waivers';
 
 /** The claims made at one operating point, and the models evaluated there. */
 export interface OperatingPoint {
@@ -37,6 +38,8 @@ export interface FileResult {
 export interface CheckOptions {
   rules?: Record<string, RuleSettings>;
   tolerances?: Tolerances;
+  /** YYYY-MM-DD, for waiver expiry; today when absent. */
+  today?: string;
 }
 
 const pointKey = (v: Values): string => JSON.stringify(Object.entries(v).sort(([a], [b]) => a.localeCompare(b)));
@@ -111,5 +114,6 @@ export function checkText(path: string, text: string, options: CheckOptions = {}
   findings.push(...runRules(claimRules, front.context, options.rules));
   findings.push(...runRules(designRules, { ...front.context, spec }, options.rules));
   for (const p of rows) findings.push(...runRules(claimRules, p.context, options.rules));
+  findings.push(...applyWaivers(findings, spec.waivers, options.today ?? todayIso()));
   return { path, skipped: false, findings: sortFindings(findings), spec, model: front.context.model, context: front.context, points };
 }

@@ -74,7 +74,8 @@ function checkEntry(ctx: RuleContext, def: ClaimRuleSpec, entry: ClaimEntry): Dr
   const unit = CANONICAL_UNIT[kind];
   for (const { v, at } of verdicts) {
     if (v.outcome === 'holds') continue;
-    const pos = entry[v.bound]!.pos;
+    // SPEC-FORMAT §4: a claim's finding points at its key (front matter) or its cell (table).
+    const pos = entry.source === 'table' ? entry[v.bound]!.pos : entry.keyPos;
     const written = entry[v.bound]!.quantity.written.text;
     const corner = at.label !== 'typical' ? ` at the corner ${at.label} (${at.where})` : ` at ${at.where}`;
     const claimText = `${def.noun} claimed ${boundSymbol[v.bound]}${written}`;

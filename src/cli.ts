@@ -1,11 +1,11 @@
 // The command line: arguments, file discovery, output format, exit status.
 // The only module that touches the file system or the process.
 
-import { readFileSync, readdirSync, realpathSync, statSync, writeFileSync } from 'node:fs';
+import { closeSync, openSync, readFileSync, readSync, readdirSync, realpathSync, statSync, writeFileSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { RULES } from '../rules';
-import { type FileResult, checkText } from './check';
+import { type CheckOptions, type FileResult, checkText } from './check';
 import { jsonReport } from './report/json';
 import { reviewReport } from './report/review';
 import { paint, useColor } from './report/style';
@@ -160,22 +160,42 @@ function readError(path: string, rule: string, message: string): FileResult {
   return { path, skipped: false, findings: [{ rule, severity: 'error', line: 1, column: 1, claim: null, message, suggestions: [] }] };
 }
 
-export function checkFile(path: string, maxBytes: number): FileResult {
+const HEAD_BYTES = 64 * 1024;
+const SPEC_HEAD = /^(\uFEFF)?---[ \t]*(\r\n|\r|\n)[\s\S]*?^polecheck[ \t]*:/m;
+
+/** Whether the start of a file could be a spec: front matter with the `polecheck` key. */
+function looksLikeSpec(head: Buffer): boolean {
+  return SPEC_HEAD.test(head.toString('latin1'));
+}
+
+export function checkFile(path: string, maxBytes: number, options: CheckOptions = {}): FileResult {
   let bytes: Buffer;
   try {
     const size = statSync(path).size;
-    if (size > maxBytes) return readError(path, 'file-too-large', `file is ${size} bytes, above the limit of ${maxBytes} (--max-bytes)`);
+    if (size > maxBytes) {
+      // A large page that is not a spec is skipped like any other page.
+      const head = Buffer.alloc(Math.min(HEAD_BYTES, size));
+      const fd = openSync(path, 'r');
+      try {
+        readSync(fd, head, 0, head.length, 0);
+      } finally {
+        closeSync(fd);
+      }
+      if (!looksLikeSpec(head)) return { path, skipped: true, findings: [] };
+      return readError(path, 'file-too-large', `file is ${size} bytes, above the limit of ${maxBytes} (--max-bytes)`);
+    }
     bytes = readFileSync(path);
   } catch (err) {
     return readError(path, 'read-error', `cannot read the file: ${(err as NodeJS.ErrnoException).code ?? (err as Error).message}`);
   }
+  if (!looksLikeSpec(bytes.subarray(0, HEAD_BYTES))) return { path, skipped: true, findings: [] };
   let text: string;
   try {
     text = new TextDecoder('utf-8', { fatal: true }).decode(bytes);
   } catch {
     return readError(path, 'encoding', 'the file is not valid UTF-8');
   }
-  return checkText(path, text);
+  return checkText(path, text, options);
 }
 
 function docsDir(): string {
@@ -235,7 +255,7 @@ export function main(argv: string[], io: { stdout: (s: string) => void; stderr: 
   const results = files.map((f) => checkFile(f, o.maxBytes));
   const text = o.command === 'report'
     ? o.format === 'json' ? jsonReport(results) : reviewReport(results, p)
-    : o.format === 'json' ? jsonReport(results) : textReport(results, p, { quiet: o.quiet });
+    : o.format === 'json' ? jsonReport(results, { quiet: o.quiet }) : textReport(results, p, { quiet: o.quiet });
   if (o.outputFile) {
     try {
       writeFileSync(o.outputFile, text);

@@ -29,6 +29,8 @@ export interface Finding {
   related?: Related[];
   /** How the computed figure was obtained. */
   derivation?: Pick<Figure, 'method' | 'how' | 'notes'>;
+  /** An accepted deviation: the finding is listed but counts neither as an error nor as a warning. */
+  waived?: { reason: string; expires?: string; line: number };
 }
 
 export const bySeverity: Record<Severity, number> = { error: 0, warning: 1, info: 2 };

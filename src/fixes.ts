@@ -76,7 +76,10 @@ function figureAt(ctx: RuleContext, claim: string, changes: Values): { model: Mo
 /** Solves for `param` so that the claim's figure meets `target`, nearest to the current value. */
 function solveParam(ctx: RuleContext, entry: ClaimEntry, param: string, base: number, target: number): Solved | null {
   const spec = ctx.spec.topology.params.find((p) => p.key === param);
-  if (!spec || !(base > 0)) return null;
+  if (!spec) return null;
+  // A param at zero (no nulling resistor yet) is searched around its natural size.
+  if (!(base > 0)) base = spec.scale?.(ctx.model.values) ?? 0;
+  if (!(base > 0)) return null;
   const f = (x: number): number | null => {
     const r = figureAt(ctx, entry.key, { [param]: x });
     return r && r.value !== null ? r.value - target : null;

@@ -33,7 +33,8 @@ const inputError = (rule: string, pos: { line: number; column: number }, message
 
 export function readDocument(path: string, raw: string): ReadResult {
   // A byte-order mark is not part of the text; positions are counted without it.
-  const text = raw.charCodeAt(0) === 0xfeff ? raw.slice(1) : raw;
+  // Lone CRs (old Mac line ends) become LFs: same length, so offsets stay put.
+  const text = (raw.charCodeAt(0) === 0xfeff ? raw.slice(1) : raw).replace(/\r(?!\n)/g, '\n');
   // Front matter can only open a file; most non-spec pages leave here unparsed.
   if (!text.startsWith('---') || !SPEC_KEY.test(text)) return { kind: 'skipped' };
   const index = new LineIndex(text);

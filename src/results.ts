@@ -39,7 +39,8 @@ export function claimResults(r: FileResult): ClaimResult[] {
         bounds.push({ bound: b, value: w.value, figure: w.figure, corner: w.label });
       }
       // The statement's own findings are those of its claim at its cells.
-      const cells = new Set([entry.typ, entry.min, entry.max].filter(Boolean).map((q) => `${q!.pos.line}:${q!.pos.column}`));
+      const places = entry.source === 'table' ? [entry.typ, entry.min, entry.max].filter(Boolean).map((q) => q!.pos) : [entry.keyPos];
+      const cells = new Set(places.map((q) => `${q.line}:${q.column}`));
       const own = r.findings.filter((f) => f.claim === entry.key && cells.has(`${f.line}:${f.column}`) && f.rule !== 'hand-estimate-drift');
       const verdict = own.some((f) => f.severity === 'error') ? 'fails' : own.some((f) => f.severity === 'warning') ? 'thin' : 'holds';
       out.push({ entry, point, bounds, hand: ctx.model.hand[entry.key], verdict });

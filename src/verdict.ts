@@ -78,11 +78,14 @@ export const holdsAll = (verdicts: BoundVerdict[]): boolean => verdicts.every((v
 /** "18.4 MHz" or "−" style figure text for messages. */
 export const show = (value: number | null, kind: Kind): string => (value === null ? 'no value' : formatQuantity(value, kind));
 
+/** A percentage in plain digits: two significant below 100, whole numbers above. */
+export const percent = (p: number): string => (p >= 100 ? Math.round(p).toString() : p.toPrecision(2));
+
 /** How far off, in words: "17.9° short", "20 % low", "3.2 dB high". */
 export function offBy(v: BoundVerdict, computed: number, kind: Kind): string {
   const rel = kind === 'frequency' || kind === 'slew';
   const amount = rel
-    ? `${Math.abs((100 * v.delta) / v.claimed).toPrecision(2)} %`
+    ? `${percent(Math.abs((100 * v.delta) / v.claimed))} %`
     : formatQuantity(Math.abs(v.delta), kind, 2);
   if (v.bound === 'min') return v.outcome === 'fails' ? `${amount} short` : `only ${amount} above the bound`;
   if (v.bound === 'max') return v.outcome === 'fails' ? `${amount} over` : `only ${amount} below the bound`;

@@ -55,9 +55,10 @@ function search(ctx: RuleContext, claim: string, bound: 'min' | 'max'): WorstPoi
     value: e.model?.exact[claim]?.value ?? null,
   });
   const points = ctx.evaluated.map(fromEvaluated);
-  // A figure that does not exist at some corner fails the bound there (an
-  // unbounded margin is the one exception: it is not worse than any value).
-  const missingAt = points.find((p) => p.value === null && !p.figure?.reason?.includes('unbounded'));
+  // A figure that does not exist at some corner fails the bound there; an
+  // unbounded margin is worse than any value for a max bound, better for a min.
+  const fails = (p: WorstPoint) => p.value === null && (bound === 'max' || !p.figure?.reason?.includes('unbounded'));
+  const missingAt = points.find(fails);
   if (missingAt) return missingAt;
   let best = points[0];
   for (const p of points) if (p.value !== null && (best.value === null || worse(p.value, best.value))) best = p;
@@ -89,7 +90,7 @@ function search(ctx: RuleContext, claim: string, bound: 'min' | 'max'): WorstPoi
         if (x === best.values[r.key]) continue;
         const p = at({ ...best.values, [r.key]: x });
         if (!p) continue;
-        if (p.value === null && !p.figure?.reason?.includes('unbounded')) return { ...p, label: describe(ctx, p.values) };
+        if (fails(p)) return { ...p, label: describe(ctx, p.values) };
         if (p.value !== null && best.value !== null && worse(p.value, best.value)) {
           best = p;
           moved = true;

@@ -7,17 +7,7 @@ import { evaluate } from '../src/model';
 import { formatQuantity } from '../src/quantity';
 import { twoStageMiller } from '../src/topologies/two-stage-miller';
 import { worstCase } from '../src/worst-case';
-
-function rng(seed: number) {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+import { mulberry32 as rng } from './reference/designs';
 
 const KINDS = { gm1: 'conductance', gm2: 'conductance', cc: 'capacitance', c2: 'capacitance', rz: 'resistance', cl: 'capacitance' } as const;
 

@@ -188,6 +188,9 @@ function signChanges(s: Sweep, values: number[], target: number, g: (fHz: number
       continue;
     }
     if (!(ga * gb < 0)) continue;
+    // A response that only tends to the level (|A| → 1 above every pole) crosses it
+    // in round-off alone: such sign changes, all within 1e-7 dB, are no crossing.
+    if (Math.max(Math.abs(ga), Math.abs(gb)) < 1e-7) continue;
     found.push(refine(g, target, Math.log(s.f[i - 1]), Math.log(s.f[i]), ga, gb));
   }
   return found;
@@ -214,10 +217,21 @@ export function analyzeLoop(a: NetworkAnalysis, beta: number): LoopAnalysis {
   const [lo0, hi0] = a.searchRange;
   const loopDb = 20 * Math.log10(beta);
   // Extend the search upward until the loop gain is well below unity.
-  let hi = hi0;
-  for (let i = 0; i < 30 && a.at(hi).magDb + loopDb > -20; i++) hi *= 10;
-  let hiA = hi;
-  for (let i = 0; i < 30 && a.at(hiA).magDb > -20; i++) hiA *= 10;
+  // Extend the search upward until the gain is well below unity, or stops
+  // falling (a response that levels off above every pole crosses nothing more).
+  const extend = (offsetDb: number): number => {
+    let f = hi0;
+    let prev = a.at(f).magDb;
+    for (let i = 0; i < 30 && prev + offsetDb > -20; i++) {
+      const next = a.at(f * 10).magDb;
+      if (next > prev - 0.1) break;
+      f *= 10;
+      prev = next;
+    }
+    return f;
+  };
+  const hi = extend(loopDb);
+  const hiA = Math.max(hi, extend(0));
   const lo = lo0;
   // Besides each root's own frequency, a resonant pair's half-power points,
   // so that a narrow peak cannot cross unity between two grid points unseen.

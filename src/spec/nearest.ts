@@ -26,5 +26,7 @@ export function nearest(word: string, candidates: readonly string[]): string | u
       best = c;
     }
   }
-  return best !== undefined && bestD <= Math.max(2, Math.floor(word.length / 2)) ? best : undefined;
+  // Short words are near everything: allow one edit below four letters, then about a third of the word.
+  const allowed = word.length < 4 ? 1 : Math.max(2, Math.floor(word.length / 3));
+  return best !== undefined && bestD <= allowed ? best : undefined;
 }

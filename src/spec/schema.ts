@@ -5,13 +5,13 @@ import type { Finding } from '../findings';
 import { type Kind, KIND_EXAMPLE, KIND_NOUN, parseQuantity, parseTolerance } from '../quantity';
 import { TOPOLOGIES } from '../topologies';
 import { ELEMENT_KINDS, type ElementKind, type NetworkDef, type NetworkElementDef, checkStructure, networkTopology } from '../topologies/network';
-import type { KeySpec, Topology } from '../topologies/types';
+import type { ClaimSpec, KeySpec, Topology } from '../topologies/types';
 import { nearest } from './nearest';
 import type { Pos } from './position';
-import type { ClaimEntry, QuantityAt, Spec, ValueEntry } from './types';
+import type { ClaimEntry, QuantityAt, Spec, ValueEntry, Waiver } from './types';
 import type { YEntry, YMap, YNode } from './yaml';
 
-export const TOP_KEYS = ['polecheck', 'block', 'title', 'topology', 'network', 'params', 'conditions', 'claims'] as const;
+export const TOP_KEYS = ['polecheck', 'block', 'title', 'topology', 'network', 'params', 'conditions', 'claims', 'waivers'] as const;
 const BOUND_KEYS = ['min', 'typ', 'max'] as const;
 export const FORMAT_VERSION = 1;
 
@@ -132,13 +132,29 @@ function readValue(c: Collector, e: YEntry, spec: KeySpec): ValueEntry | undefin
         return undefined;
       }
       const at = (quantity: typeof tol.typ): QuantityAt => ({ quantity, pos: v.pos });
-      const entry = { key: e.key, keyPos: e.keyPos, spec, typ: at(tol.typ), min: at(tol.min), max: at(tol.max) };
-      return checkPhysical(c, spec, entry.typ) && checkPhysical(c, spec, entry.min) ? entry : undefined;
+      const entry = { key: e.key, keyPos: e.keyPos, spec, typ: at(tol.typ), min: at(tol.min), max: at(tol.max), tolerance: true };
+      return checkPhysical(c, spec, entry.typ) && checkPhysical(c, spec, entry.min) && checkPhysical(c, spec, entry.max) ? entry : undefined;
     }
+  }
+  if (spec.allowZero && v.kind === 'scalar' && /^[+]?0+(\.0*)?$/.test(v.text.trim())) {
+    // Zero needs no unit: `rz: 0`, `cl: 0`.
+    const zero = { value: 0, kind: spec.kind, written: { text: v.text.trim(), number: v.text.trim(), unit: '', style: 'bare' as const, scale: 1, sigDigits: 1, decimals: 0 } };
+    return { key: e.key, keyPos: e.keyPos, spec, typ: { quantity: zero, pos: v.pos } };
   }
   const q = quantityAt(c, v, spec.kind, e.key, null);
   if (!q || !checkPhysical(c, spec, q)) return undefined;
   return { key: e.key, keyPos: e.keyPos, spec, typ: q };
+}
+
+/** Frequencies, rates and capacitances are positive; gains in dB and angles may be negative. */
+export const POSITIVE_CLAIM_KINDS: readonly Kind[] = ['frequency', 'slew', 'capacitance'];
+
+function claimValueOk(c: Collector, spec: ClaimSpec, q: QuantityAt): boolean {
+  if (POSITIVE_CLAIM_KINDS.includes(spec.kind) && !(q.quantity.value > 0)) {
+    c.error('invalid-value', q.pos, `\`${spec.key}\` (${spec.description}) must be positive; got \`${q.quantity.written.text}\``, [], spec.key);
+    return false;
+  }
+  return true;
 }
 
 function readClaims(c: Collector, node: YNode | undefined, topology: Topology): ClaimEntry[] {
@@ -177,10 +193,16 @@ function readClaims(c: Collector, node: YNode | undefined, topology: Topology): 
         c.error('invalid-value', entry.min.pos, `the claim \`${e.key}\` has min above max`, [], e.key);
         continue;
       }
+      const t = entry.typ?.quantity.value;
+      if (t !== undefined && ((entry.min && t < entry.min.quantity.value) || (entry.max && t > entry.max.quantity.value))) {
+        c.error('invalid-value', entry.typ!.pos, `the claim \`${e.key}\` has its typ outside its own min/max`, [], e.key);
+        continue;
+      }
+      if (![entry.typ, entry.min, entry.max].every((q) => !q || claimValueOk(c, spec, q))) continue;
       out.push(entry);
     } else {
       const q = quantityAt(c, e.value, spec.kind, e.key, e.key);
-      if (q) out.push({ key: e.key, keyPos: e.keyPos, spec, typ: q, plain: true });
+      if (q && claimValueOk(c, spec, q)) out.push({ key: e.key, keyPos: e.keyPos, spec, typ: q, plain: true });
     }
   }
   return out;
@@ -268,6 +290,47 @@ function readNetwork(c: Collector, entry: YEntry): { topology: Topology; values:
   return { topology: networkTopology(def), values: { kind: 'map', entries: values, pos: elementsNode.pos } };
 }
 
+const WAIVER_KEYS = ['rule', 'claim', 'reason', 'expires'];
+
+function readWaivers(c: Collector, entry: YEntry | undefined): Waiver[] {
+  if (!entry) return [];
+  const v = entry.value;
+  if (v.kind !== 'seq') {
+    c.error('front-matter', v.pos, '`waivers` is a list of `{rule, claim, reason, expires}` entries');
+    return [];
+  }
+  const out: Waiver[] = [];
+  for (const item of v.items) {
+    if (item.kind !== 'map') {
+      c.error('front-matter', item.pos, 'a waiver is a mapping such as `{rule: phase-margin, reason: …, expires: 2027-06-30}`');
+      continue;
+    }
+    const f = (k: string) => item.entries.find((e) => e.key === k);
+    for (const e of item.entries) if (!WAIVER_KEYS.includes(e.key)) c.unknownKey(e.keyPos, e.key, 'a waiver', WAIVER_KEYS);
+    const rule = scalarText(f('rule')?.value ?? item)?.trim();
+    if (!rule) {
+      c.error('waiver', item.pos, 'a waiver needs `rule:`, the id of the rule whose finding it accepts');
+      continue;
+    }
+    const w: Waiver = { rule, pos: f('rule')!.keyPos };
+    const claim = f('claim') && scalarText(f('claim')!.value)?.trim();
+    if (claim) w.claim = claim;
+    const reason = f('reason') && scalarText(f('reason')!.value)?.trim();
+    if (reason) w.reason = reason;
+    const expires = f('expires');
+    if (expires) {
+      const text = scalarText(expires.value)?.trim() ?? '';
+      if (!/^\d{4}-\d{2}-\d{2}$/.test(text) || Number.isNaN(Date.parse(`${text}T00:00:00Z`))) {
+        c.error('waiver', expires.value.pos, `\`expires\` takes a date as YYYY-MM-DD, got \`${text}\``);
+        continue;
+      }
+      w.expires = text;
+    }
+    out.push(w);
+  }
+  return out;
+}
+
 export function readSpec(path: string, root: YMap, start: Pos): { spec: Spec | null; findings: Finding[] } {
   const c = new Collector();
   const get = (key: string): YEntry | undefined => root.entries.find((e) => e.key === key);
@@ -285,6 +348,10 @@ export function readSpec(path: string, root: YMap, start: Pos): { spec: Spec | n
     return { spec: null, findings: c.findings };
   }
   const topoName = scalarText(topo.value)?.trim() ?? '';
+  if (!topoName) {
+    c.error('front-matter', topo.value.pos, `\`topology\` takes the name of a topology: ${[...TOPOLOGIES.map((t) => t.id), 'network'].join(', ')}`);
+    return { spec: null, findings: c.findings };
+  }
   let topology = TOPOLOGIES.find((t) => t.id === topoName);
   let paramsNode: YNode | undefined = get('params')?.value;
   if (topoName === 'network') {
@@ -314,26 +381,27 @@ export function readSpec(path: string, root: YMap, start: Pos): { spec: Spec | n
   const paramsPos = paramsEntry?.keyPos ?? topo.keyPos;
 
   const written = new Set(paramsNode?.kind === 'map' ? paramsNode.entries.map((e) => e.key) : []);
+  const paramsUnreadable = paramsNode !== undefined && paramsNode.kind !== 'map';
   for (const p of topology.params) {
-    // A param that is written but unreadable has its own error already.
-    if (p.required && !written.has(p.key)) {
+    // A param that is written but unreadable has its own error already, and so has a `params:` that is no mapping.
+    if (p.required && !written.has(p.key) && !paramsUnreadable) {
       c.error('missing-param', paramsPos, `missing param \`${p.key}\` (${p.description}): every figure of \`${topology.id}\` depends on it`, [`add \`${p.key}: ${KIND_EXAMPLE[p.kind]}\` (your value) under \`params:\``]);
     }
   }
-  for (const claim of claims) {
-    for (const need of claim.spec.needs ?? []) {
-      if (!written.has(need)) {
-        const ps = topology.params.find((p) => p.key === need)!;
-        c.error('missing-param', claim.keyPos, `the claim \`${claim.key}\` needs the param \`${need}\` (${ps.description}), which is not given`, [`add \`${need}:\` under \`params:\``], claim.key);
-      }
-    }
+  for (const claim of [...claims]) {
+    const missingNeeds = (claim.spec.needs ?? []).filter((need) => !written.has(need));
+    if (!missingNeeds.length) continue;
+    const described = missingNeeds.map((need) => `\`${need}\` (${topology.params.find((p) => p.key === need)!.description})`).join(' and ');
+    c.error('missing-param', claim.keyPos, `the claim \`${claim.key}\` needs ${described}, not given`, [`add ${missingNeeds.map((n) => `\`${n}:\``).join(' and ')} under \`params:\``], claim.key);
+    // Without them the claim cannot be judged; the input error says so once.
+    claims.splice(claims.indexOf(claim), 1);
   }
   const block = scalarText(get('block')?.value ?? { kind: 'seq', items: [], pos: start });
   const title = scalarText(get('title')?.value ?? { kind: 'seq', items: [], pos: start });
   // A spec whose required params are missing or unreadable cannot be evaluated.
   const complete = topology.params.every((p) => !p.required || params.has(p.key));
   const spec: Spec | null = complete
-    ? { path, block, title, topology, topologyPos: topo.value.pos, params, conditions, claims, start, paramsPos }
+    ? { path, block, title, topology, topologyPos: topo.value.pos, params, conditions, claims, start, paramsPos, waivers: readWaivers(c, get('waivers')) }
     : null;
   return { spec, findings: c.findings };
 }

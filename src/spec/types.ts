@@ -17,6 +17,8 @@ export interface ValueEntry {
   max?: QuantityAt;
   /** The typical value was not written and is the midpoint of the range. */
   typIsMidpoint?: boolean;
+  /** Written as `X ±N%`: min and max are computed, only typ was written. */
+  tolerance?: boolean;
   /** `rl: open`: the element is absent. */
   open?: boolean;
 }
@@ -46,6 +48,16 @@ export interface ClaimEntry {
   conditions?: RowConditions;
 }
 
+/** An accepted deviation, recorded in the front matter. */
+export interface Waiver {
+  rule: string;
+  claim?: string;
+  reason?: string;
+  /** ISO date (YYYY-MM-DD) after which the waiver no longer applies. */
+  expires?: string;
+  pos: Pos;
+}
+
 export interface Spec {
   path: string;
   block?: string;
@@ -59,4 +71,5 @@ export interface Spec {
   start: Pos;
   /** Position of the `params:` key, for findings about missing params. */
   paramsPos: Pos;
+  waivers: Waiver[];
 }

@@ -60,7 +60,7 @@ export function parseYaml(source: string, where: (offset: number) => Pos): YamlR
     // Run the constructor for its checks only; the values come from the events.
     constructFromEvents(events, { source, maxAliases: MAX_ALIASES });
   } catch (err) {
-    return { ok: false, error: yamlError(err, where) };
+    return { ok: false, error: yamlError(err, where, source) };
   }
   const anchors = new Map<string, YNode>();
   let i = 0;
@@ -69,9 +69,11 @@ export function parseYaml(source: string, where: (offset: number) => Pos): YamlR
   const anchorOf = (ev: { anchorStart: number; anchorEnd: number }): string | undefined =>
     ev.anchorStart >= 0 ? source.slice(ev.anchorStart, ev.anchorEnd) : undefined;
 
-  const readNode = (ev: Event): YNode => {
+  // `fallback`: where an empty value (no source text) is reported: its key.
+  const readNode = (ev: Event, fallback?: Pos): YNode => {
     if (ev.type === EVENT.SCALAR) {
-      const node: YScalar = { kind: 'scalar', text: getScalarValue(source, ev), plain: ev.style === PLAIN, pos: where(ev.valueStart) };
+      const empty = ev.valueStart < 0;
+      const node: YScalar = { kind: 'scalar', text: empty ? '' : getScalarValue(source, ev), plain: ev.style === PLAIN, pos: empty ? (fallback ?? where(0)) : where(ev.valueStart) };
       if (ev.style !== PLAIN && ev.valueStart > 0) node.pos = where(ev.valueStart - 1); // point at the opening quote
       const a = anchorOf(ev);
       if (a) anchors.set(a, node);
@@ -90,7 +92,7 @@ export function parseYaml(source: string, where: (offset: number) => Pos): YamlR
         const keyNode = readNode(e);
         const valueEvent = next();
         if (!valueEvent) break;
-        const value = readNode(valueEvent);
+        const value = readNode(valueEvent, keyNode.pos);
         const key = keyNode.kind === 'scalar' ? keyNode.text : `[${keyNode.kind}]`;
         node.entries.push({ key, keyPos: keyNode.pos, value });
       }
@@ -135,9 +137,17 @@ class AliasError extends Error {
   }
 }
 
-function yamlError(err: unknown, where: (offset: number) => Pos): YamlError {
+function yamlError(err: unknown, where: (offset: number) => Pos, source: string): YamlError {
   const e = err as { reason?: string; message?: string; mark?: { position?: number } };
   const reason = e.reason ?? e.message ?? String(err);
   const offset = e.mark && typeof e.mark.position === 'number' ? e.mark.position : 0;
+  if (reason.includes('multiline key')) {
+    // YAML notices a line without its colon only on the next line: point at the line itself.
+    const before = source.slice(0, source.lastIndexOf('\n', offset - 1) + 1 || 0).replace(/\s+$/, '');
+    const start = before.lastIndexOf('\n') + 1;
+    const line = before.slice(start);
+    const indent = line.length - line.trimStart().length;
+    if (line.trim() && !line.includes(':')) return { message: `front matter is not valid YAML: \`${line.trim()}\` is not \`key: value\` (a colon is missing)`, pos: where(start + indent) };
+  }
   return { message: `front matter is not valid YAML: ${reason}`, pos: where(offset) };
 }

@@ -37,27 +37,37 @@ export const singleStage: Topology = {
   claims: commonClaims.map((c) => (c.key === 'slew_rate' ? { ...c, needs: ['i_tail'] } : c)).filter((c) => c.key !== 'rhp_zero'),
 
   network(v: Values): Network {
+    // The signal current passes the cascode (or folding) node first; behind it,
+    // with a mirror, half reaches the output directly and half through the mirror:
+    // A = gm·rout'·[1/(1 + s·c_cas/gm_cas)]·[½ + ½/(1 + s·c_mirror/gm_mirror)]/(1 + s·rout'·(cout + cl)).
     const mirror = hasMirror(v);
-    const direct = mirror ? v.gm / 2 : v.gm;
     const elements: Element[] = [];
+    let feed: { ctrl: string; gm: number; sign: 1 | -1 };
     if (hasCascode(v)) {
-      // Signal current into the cascode's source node, then on to the output.
       elements.push(
-        { kind: 'vccs', name: 'gm', a: 'xa', b: '0', ctrlP: 'in', ctrlN: '0', gm: direct },
+        { kind: 'vccs', name: 'gm', a: 'xa', b: '0', ctrlP: 'in', ctrlN: '0', gm: v.gm },
         { kind: 'conductance', name: '1/gm_cas', a: 'xa', b: '0', siemens: v.gm_cas },
         { kind: 'capacitance', name: 'c_cas', a: 'xa', b: '0', farads: v.c_cas },
-        { kind: 'vccs', name: 'gm_cas', a: 'out', b: '0', ctrlP: 'xa', ctrlN: '0', gm: v.gm_cas },
       );
+      // v(xa) is inverted: the cascode's current leaves its target node in proportion to it.
+      feed = { ctrl: 'xa', gm: v.gm_cas, sign: -1 };
     } else {
-      elements.push({ kind: 'vccs', name: 'gm', a: '0', b: 'out', ctrlP: 'in', ctrlN: '0', gm: direct });
+      feed = { ctrl: 'in', gm: v.gm, sign: 1 };
     }
+    const into = (node: string, gm: number, name: string): Element =>
+      feed.sign === 1
+        ? { kind: 'vccs', name, a: '0', b: node, ctrlP: feed.ctrl, ctrlN: '0', gm }
+        : { kind: 'vccs', name, a: node, b: '0', ctrlP: feed.ctrl, ctrlN: '0', gm };
     if (mirror) {
       elements.push(
-        { kind: 'vccs', name: 'gm/2', a: '0', b: 'm', ctrlP: 'in', ctrlN: '0', gm: v.gm / 2 },
+        into('out', feed.gm / 2, 'direct half'),
+        into('m', feed.gm / 2, 'mirrored half'),
         { kind: 'conductance', name: '1/gm_mirror', a: 'm', b: '0', siemens: v.gm_mirror },
         { kind: 'capacitance', name: 'c_mirror', a: 'm', b: '0', farads: v.c_mirror },
         { kind: 'vccs', name: 'gm_mirror', a: '0', b: 'out', ctrlP: 'm', ctrlN: '0', gm: v.gm_mirror },
       );
+    } else {
+      elements.push(into('out', feed.gm, 'signal'));
     }
     elements.push(
       { kind: 'conductance', name: 'rout', a: 'out', b: '0', siemens: 1 / v.rout },

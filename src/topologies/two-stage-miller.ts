@@ -35,7 +35,7 @@ export const twoStageMiller: Topology = {
     { key: 'r2', kind: 'resistance', required: true, description: 'second-stage output resistance', plausible: [1e2, 1e10] },
     { key: 'c2', kind: 'capacitance', required: true, allowZero: true, description: 'output-node parasitic capacitance, load excluded', plausible: [1e-16, 1e-10] },
     { key: 'cc', kind: 'capacitance', required: true, description: 'Miller compensation capacitor', plausible: [1e-14, 1e-10] },
-    { key: 'rz', kind: 'resistance', allowZero: true, default: 0, description: 'nulling resistor in series with cc', plausible: [1, 1e7] },
+    { key: 'rz', kind: 'resistance', allowZero: true, default: 0, description: 'nulling resistor in series with cc', plausible: [1, 1e7], scale: (v) => 1 / v.gm2 },
     { key: 'i1', kind: 'current', description: 'first-stage tail current', plausible: [1e-9, 0.1] },
     { key: 'i2', kind: 'current', description: 'second-stage bias current', plausible: [1e-9, 0.1] },
   ],
@@ -75,7 +75,7 @@ export const twoStageMiller: Topology = {
     const internal = v.i1 / v.cc;
     const cl = v.cl ?? 0;
     if (v.i2 <= v.i1) {
-      return { slew_rate: missing('V/s', 'large-signal', how, `i2 (${v.i2} A) must exceed i1 (${v.i1} A) for the output stage to slew the load`) };
+      return { slew_rate: missing('V/s', 'large-signal', how, `i2 (${formatQuantity(v.i2, 'current')}) must exceed i1 (${formatQuantity(v.i1, 'current')}) for the output stage to slew the load`) };
     }
     const external = cl > 0 ? (v.i2 - v.i1) / cl : Infinity;
     const sr = Math.min(internal, external);

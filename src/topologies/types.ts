@@ -27,6 +27,8 @@ export interface KeySpec {
    * a prefix slip explains (10³, 10⁶), the value draws a warning.
    */
   plausible?: [number, number];
+  /** A natural size of the param in this design, for solving from a value of zero (rz: 1/gm2). */
+  scale?: (values: Values) => number;
 }
 
 export interface ClaimSpec {

@@ -189,3 +189,54 @@ export function gainMargin(d: Design): { f180Hz: number; gmDb: number } | null {
 
 /** Relative difference. */
 export const rel = (a: number, b: number): number => Math.abs(a - b) / Math.abs(b);
+
+/**
+ * All pole frequencies (Hz, ascending) for any rz, from the denominator of the
+ * closed form multiplied out: with τ1 = r1·c1, τ2 = r2'·c2', τz = cc·rz,
+ *   D(s) = (1 + sτ1)(1 + sτ2)(1 + sτz) + s·cc·(r2'(1 + sτ1) + r1(1 + sτ2) + gm2·r1·r2'),
+ * which for rz = 0 is 1 + a1·s + a2·s². Real roots only (null otherwise):
+ * Newton from s = 0 finds the smallest root, the rest follow by deflation and
+ * the quadratic formula, each polished by Newton on D itself.
+ */
+export function polesHzAny(d: Design): number[] | null {
+  const { c2l, r2l } = loadedOutput(d);
+  const t1 = d.r1 * d.c1;
+  const t2 = r2l * c2l;
+  const tz = d.cc * (d.rz ?? 0);
+  const c = [
+    1,
+    t1 + t2 + tz + d.cc * (r2l + d.r1 + d.gm2 * d.r1 * r2l),
+    t1 * t2 + tz * (t1 + t2) + d.cc * d.r1 * r2l * (d.c1 + c2l),
+    t1 * t2 * tz,
+  ];
+  const deg = c[3] === 0 ? 2 : 3;
+  const D = (s: number) => c[0] + s * (c[1] + s * (c[2] + s * c[3]));
+  const dD = (s: number) => c[1] + s * (2 * c[2] + s * 3 * c[3]);
+  const polish = (s: number) => {
+    for (let i = 0; i < 60; i++) {
+      const step = D(s) / dD(s);
+      s -= step;
+      if (Math.abs(step) <= 1e-15 * Math.abs(s)) break;
+    }
+    return s;
+  };
+  const quad = (a0: number, a1: number, a2: number): number[] | null => {
+    const disc = a1 * a1 - 4 * a2 * a0;
+    if (disc < 0) return null;
+    const q = -0.5 * (a1 + Math.sign(a1) * Math.sqrt(disc));
+    return [q / a2, a0 / q];
+  };
+  let roots: number[] | null;
+  if (deg === 2) roots = quad(c[0], c[1], c[2]);
+  else {
+    const r0 = polish(0);
+    // D(s) = (s − r0)·(b2 s² + b1 s + b0), dividing from the constant term (stable for the smallest root).
+    const b0 = -c[0] / r0;
+    const b1 = (b0 - c[1]) / r0;
+    const b2 = c[3];
+    const rest = quad(b0, b1, b2);
+    roots = rest ? [r0, ...rest] : null;
+  }
+  if (!roots) return null;
+  return roots.map(polish).map((s) => Math.abs(s) / TWO_PI).sort((x, y) => x - y);
+}
