@@ -4,7 +4,7 @@
 // for the reviewer report.
 
 import { RULES } from '../rules';
-import { type Evaluated, corners, evaluateCorner, typicalValues } from './evaluation';
+import { type Evaluated, corners, typicalValues } from './evaluation';
 import { type Finding, sortFindings } from './findings';
 import { type Model, ModelError, evaluate } from './model';
 import { readDocument } from './pipeline';
@@ -51,10 +51,31 @@ function networkError(spec: Spec, message: string): Finding {
 }
 
 function contextFor(spec: Spec, overrides: Values, claims: ClaimEntry[], options: CheckOptions, findings: Finding[], label: string): RuleContext | null {
+  const base = { ...typicalValues(spec), ...overrides };
+  // The corners, the worst-case searches for different claims and the fix
+  // solver visit the same points again and again: evaluate each once.
+  const memo = new Map<string, { model: Model | null; error?: string }>();
+  const at = (values: Values): { model: Model | null; error?: string } => {
+    const key = JSON.stringify(Object.keys(values).sort().map((k) => [k, values[k]]));
+    const hit = memo.get(key);
+    if (hit) return hit;
+    let out: { model: Model | null; error?: string };
+    try {
+      out = { model: evaluate(spec.topology, values) };
+    } catch (err) {
+      if (!(err instanceof ModelError)) throw err;
+      out = { model: null, error: err.message };
+    }
+    if (memo.size < 5000) memo.set(key, out);
+    return out;
+  };
   // Overrides replace the front matter's conditions, at the typical point and at every corner.
   const view: Spec = { ...spec, claims };
   const { corners: points, limited } = corners(view);
-  const evaluated: Evaluated[] = points.map((c) => evaluateCorner(spec, { ...c, values: { ...c.values, ...overrides } }));
+  const evaluated: Evaluated[] = points.map((c) => {
+    const corner = { ...c, values: { ...c.values, ...overrides } };
+    return { corner, ...at(corner.values) };
+  });
   const typical = evaluated[0];
   const where = label ? ` at ${label}` : '';
   if (!typical.model) {
@@ -62,21 +83,13 @@ function contextFor(spec: Spec, overrides: Values, claims: ClaimEntry[], options
     return null;
   }
   for (const e of evaluated.slice(1)) if (!e.model) findings.push(networkError(spec, `${where} at the corner ${e.corner.label}`));
-  const base = { ...typicalValues(spec), ...overrides };
   return {
     spec: view,
     model: typical.model,
     evaluated,
     cornersLimited: limited,
     tolerances: options.tolerances ?? DEFAULT_TOLERANCES,
-    withChanges(changes) {
-      try {
-        return evaluate(spec.topology, { ...base, ...changes });
-      } catch (err) {
-        if (err instanceof ModelError) return null;
-        throw err;
-      }
-    },
+    withChanges: (changes) => at({ ...base, ...changes }).model,
   };
 }
 

@@ -1,15 +1,25 @@
 // The command line: arguments, file discovery, output format, exit status.
 // The only module that touches the file system or the process.
 
-import { closeSync, openSync, readFileSync, readSync, readdirSync, realpathSync, statSync, writeFileSync } from 'node:fs';
-import { dirname, join, resolve } from 'node:path';
+import { execFileSync } from 'node:child_process';
+import { closeSync, openSync, readFileSync, readSync, readdirSync, realpathSync, renameSync, statSync, unlinkSync, writeFileSync } from 'node:fs';
+import { dirname, join, relative, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
+import { FILE_HEADERS_ONLY, createTwoFilesPatch } from 'diff';
+import picomatch from 'picomatch';
 import { RULES } from '../rules';
+import { DEFAULT_CACHE_DIR, ResultCache, hashOf } from './cache';
 import { type CheckOptions, type FileResult, checkText } from './check';
+import { type Config, ConfigError, defaultConfig, findConfig, loadConfig } from './config';
+import { applyEdits, planFixes } from './fix';
+import { jsonSchema } from './schema-json';
 import { jsonReport } from './report/json';
 import { reviewReport } from './report/review';
 import { paint, useColor } from './report/style';
 import { summarize } from './report/summary';
+import { githubReport } from './report/github';
+import { gitlabReport } from './report/gitlab';
+import { sarifReport } from './report/sarif';
 import { textReport } from './report/text';
 
 declare const POLECHECK_VERSION: string;
@@ -25,12 +35,21 @@ usage:
   polecheck report [options] [paths…]    every claim: claimed, exact, hand estimate, verdict (exit 0)
   polecheck rules                        list the rules with their default severity
   polecheck explain RULE                 print a rule's documentation
+  polecheck schema                       print the JSON Schema (draft-07) of the front matter
 
 options:
-  --format text|json     output format (default text)
+  --format FORMAT        text (default), json, sarif, github or gitlab
   --max-warnings N       exit 1 when there are more than N warnings
   --quiet                show errors only
   --output-file PATH     write the report to PATH instead of standard output
+  --config PATH          use this configuration instead of the nearest polecheck.yaml
+  --fix                  rewrite stale typical claims to the model's figures (atomically)
+  --fix-bounds           with --fix: also rewrite failing min/max bounds
+  --fix-dry-run          print the --fix edits as a unified diff; write nothing
+  --changed [REF]        check only the files changed against a git ref (default HEAD)
+  --shard I/N            check the I-th of N deterministic slices of the file list
+  --cache                reuse findings of unchanged files (keyed by content, config, version)
+  --cache-location DIR   where the cache lives (default ${DEFAULT_CACHE_DIR})
   --max-bytes N          refuse files larger than N bytes (default ${DEFAULT_MAX_BYTES})
   -h, --help             this text
   -v, --version          the version
@@ -39,20 +58,30 @@ exit status: 0 no errors, 1 errors found (or too many warnings), 2 the command c
 
 export class UsageError extends Error {}
 
+export const FORMATS = ['text', 'json', 'sarif', 'github', 'gitlab'] as const;
+
 interface Options {
-  command: 'check' | 'report' | 'rules' | 'explain' | 'help' | 'version';
-  format: 'text' | 'json';
+  command: 'check' | 'report' | 'rules' | 'explain' | 'schema' | 'help' | 'version';
+  format: (typeof FORMATS)[number];
   maxWarnings?: number;
   quiet: boolean;
   outputFile?: string;
   maxBytes: number;
+  config?: string;
+  fix: boolean;
+  fixBounds: boolean;
+  fixDryRun: boolean;
+  changed?: string;
+  shard?: { index: number; count: number };
+  cache: boolean;
+  cacheLocation: string;
   paths: string[];
 }
 
 export function parseArgs(argv: string[]): Options {
-  const o: Options = { command: 'check', format: 'text', quiet: false, maxBytes: DEFAULT_MAX_BYTES, paths: [] };
+  const o: Options = { command: 'check', format: 'text', quiet: false, maxBytes: DEFAULT_MAX_BYTES, fix: false, fixBounds: false, fixDryRun: false, cache: false, cacheLocation: DEFAULT_CACHE_DIR, paths: [] };
   const args = [...argv];
-  if (args[0] && ['check', 'report', 'rules', 'explain'].includes(args[0])) o.command = args.shift() as Options['command'];
+  if (args[0] && ['check', 'report', 'rules', 'explain', 'schema'].includes(args[0])) o.command = args.shift() as Options['command'];
   const value = (flag: string, inline: string | undefined): string => {
     const v = inline ?? args.shift();
     if (v === undefined || (inline === undefined && v.startsWith('--'))) throw new UsageError(`${flag} needs a value`);
@@ -76,10 +105,42 @@ export function parseArgs(argv: string[]): Options {
         break;
       case '--format': {
         const f = value(flag, inline);
-        if (f !== 'text' && f !== 'json') throw new UsageError(`--format takes text or json, got '${f}'`);
-        o.format = f;
+        if (!(FORMATS as readonly string[]).includes(f)) throw new UsageError(`--format takes ${FORMATS.join(', ')}, got '${f}'`);
+        o.format = f as Options['format'];
         break;
       }
+      case '--config':
+        o.config = value(flag, inline);
+        break;
+      case '--fix':
+        o.fix = true;
+        break;
+      case '--fix-bounds':
+        o.fixBounds = true;
+        break;
+      case '--fix-dry-run':
+        o.fixDryRun = true;
+        break;
+      case '--changed':
+        // The ref is optional: take the next word only if it is not a path that exists or an option.
+        if (inline !== undefined) o.changed = inline;
+        else if (args[0] !== undefined && !args[0].startsWith('-') && !existsPath(args[0])) o.changed = args.shift()!;
+        else o.changed = 'HEAD';
+        break;
+      case '--shard': {
+        const v = value(flag, inline);
+        const m = v.match(/^(\d+)\/(\d+)$/);
+        if (!m || Number(m[2]) < 1 || Number(m[1]) < 1 || Number(m[1]) > Number(m[2])) throw new UsageError(`--shard takes I/N with 1 ≤ I ≤ N, got '${v}'`);
+        o.shard = { index: Number(m[1]), count: Number(m[2]) };
+        break;
+      }
+      case '--cache':
+        o.cache = true;
+        break;
+      case '--cache-location':
+        o.cacheLocation = value(flag, inline);
+        o.cache = true;
+        break;
       case '--max-warnings':
         o.maxWarnings = count(flag, value(flag, inline));
         break;
@@ -104,16 +165,30 @@ export function parseArgs(argv: string[]): Options {
         throw new UsageError(`unknown option '${a}' (see polecheck --help)`);
     }
   }
+  if (o.fixBounds && !o.fix && !o.fixDryRun) throw new UsageError('--fix-bounds goes with --fix or --fix-dry-run');
   return o;
+}
+
+function existsPath(p: string): boolean {
+  try {
+    statSync(p);
+    return true;
+  } catch {
+    return false;
+  }
 }
 
 const SKIP_DIRS = new Set(['node_modules', '.git']);
 
-/** Expands paths to Markdown files, in a stable order; folders are searched recursively. */
-export function discover(paths: string[]): string[] {
+/**
+ * Expands paths to Markdown files, in a stable order; folders are searched
+ * recursively. Paths are shown as given and read relative to `cwd`.
+ */
+export function discover(paths: string[], cwd = process.cwd()): string[] {
   const out: string[] = [];
   const seen = new Set<string>();
-  const walk = (dir: string, shown: string): void => {
+  const walk = (shown: string): void => {
+    const dir = resolve(cwd, shown);
     let real: string;
     try {
       real = realpathSync(dir);
@@ -130,27 +205,26 @@ export function discover(paths: string[]): string[] {
       return;
     }
     for (const name of names) {
-      const full = join(dir, name);
       const shownChild = shown.endsWith('/') ? shown + name : `${shown}/${name}`;
       let st;
       try {
-        st = statSync(full);
+        st = statSync(join(dir, name));
       } catch {
         continue; // a dangling link
       }
       if (st.isDirectory()) {
-        if (!SKIP_DIRS.has(name)) walk(full, shownChild);
+        if (!SKIP_DIRS.has(name)) walk(shownChild);
       } else if (name.endsWith('.md')) out.push(shownChild);
     }
   };
   for (const p of paths) {
     let st;
     try {
-      st = statSync(p);
+      st = statSync(resolve(cwd, p));
     } catch {
       throw new UsageError(`no such file or folder: ${p}`);
     }
-    if (st.isDirectory()) walk(p, p.replace(/\/+$/, '') || '/');
+    if (st.isDirectory()) walk(p.replace(/\/+$/, '') || '/');
     else out.push(p);
   }
   return [...new Set(out)];
@@ -161,41 +235,49 @@ function readError(path: string, rule: string, message: string): FileResult {
 }
 
 const HEAD_BYTES = 64 * 1024;
-const SPEC_HEAD = /^(\uFEFF)?---[ \t]*(\r\n|\r|\n)[\s\S]*?^polecheck[ \t]*:/m;
+const SPEC_HEAD = /^---[ \t]*(\r\n|\r|\n)[\s\S]*?^[ \t{]*["']?polecheck["']?[ \t]*:/m;
 
 /** Whether the start of a file could be a spec: front matter with the `polecheck` key. */
 function looksLikeSpec(head: Buffer): boolean {
-  return SPEC_HEAD.test(head.toString('latin1'));
+  const bom = head[0] === 0xef && head[1] === 0xbb && head[2] === 0xbf;
+  return SPEC_HEAD.test((bom ? head.subarray(3) : head).toString('latin1'));
 }
 
-export function checkFile(path: string, maxBytes: number, options: CheckOptions = {}): FileResult {
+/** A file read for checking: its text, or the finding that says why it cannot be read. */
+export type ReadFile = { kind: 'text'; text: string } | { kind: 'done'; result: FileResult };
+
+export function readSpecFile(file: string, maxBytes: number, path = file): ReadFile {
   let bytes: Buffer;
   try {
-    const size = statSync(path).size;
+    const size = statSync(file).size;
     if (size > maxBytes) {
       // A large page that is not a spec is skipped like any other page.
       const head = Buffer.alloc(Math.min(HEAD_BYTES, size));
-      const fd = openSync(path, 'r');
+      const fd = openSync(file, 'r');
       try {
         readSync(fd, head, 0, head.length, 0);
       } finally {
         closeSync(fd);
       }
-      if (!looksLikeSpec(head)) return { path, skipped: true, findings: [] };
-      return readError(path, 'file-too-large', `file is ${size} bytes, above the limit of ${maxBytes} (--max-bytes)`);
+      if (!looksLikeSpec(head)) return { kind: 'done', result: { path, skipped: true, findings: [] } };
+      return { kind: 'done', result: readError(path, 'file-too-large', `file is ${size} bytes, above the limit of ${maxBytes} (--max-bytes)`) };
     }
-    bytes = readFileSync(path);
+    bytes = readFileSync(file);
   } catch (err) {
-    return readError(path, 'read-error', `cannot read the file: ${(err as NodeJS.ErrnoException).code ?? (err as Error).message}`);
+    return { kind: 'done', result: readError(path, 'read-error', `cannot read the file: ${(err as NodeJS.ErrnoException).code ?? (err as Error).message}`) };
   }
-  if (!looksLikeSpec(bytes.subarray(0, HEAD_BYTES))) return { path, skipped: true, findings: [] };
-  let text: string;
+  if (!looksLikeSpec(bytes.subarray(0, HEAD_BYTES))) return { kind: 'done', result: { path, skipped: true, findings: [] } };
   try {
-    text = new TextDecoder('utf-8', { fatal: true }).decode(bytes);
+    // ignoreBOM keeps a byte-order mark in the text, so that --fix writes it back.
+    return { kind: 'text', text: new TextDecoder('utf-8', { fatal: true, ignoreBOM: true }).decode(bytes) };
   } catch {
-    return readError(path, 'encoding', 'the file is not valid UTF-8');
+    return { kind: 'done', result: readError(path, 'encoding', 'the file is not valid UTF-8') };
   }
-  return checkText(path, text, options);
+}
+
+export function checkFile(path: string, maxBytes: number, options: CheckOptions = {}): FileResult {
+  const read = readSpecFile(path, maxBytes);
+  return read.kind === 'done' ? read.result : checkText(path, read.text, options);
 }
 
 function docsDir(): string {
@@ -203,7 +285,15 @@ function docsDir(): string {
   return resolve(dirname(fileURLToPath(import.meta.url)), '..', 'rules');
 }
 
-export function main(argv: string[], io: { stdout: (s: string) => void; stderr: (s: string) => void; env: NodeJS.ProcessEnv; isTTY: boolean }): number {
+export interface MainIO {
+  stdout: (s: string) => void;
+  stderr: (s: string) => void;
+  env: NodeJS.ProcessEnv;
+  isTTY: boolean;
+  cwd?: string;
+}
+
+export function main(argv: string[], io: MainIO): number {
   let o: Options;
   try {
     o = parseArgs(argv);
@@ -242,9 +332,27 @@ export function main(argv: string[], io: { stdout: (s: string) => void; stderr: 
     }
     return 0;
   }
+  if (o.command === 'schema') {
+    io.stdout(`${JSON.stringify(jsonSchema(), null, 2)}\n`);
+    return 0;
+  }
+
+  const cwd = io.cwd ?? process.cwd();
+  let config: Config;
+  try {
+    const found = o.config ?? findConfig(cwd);
+    config = found ? loadConfig(found) : defaultConfig(cwd);
+  } catch (err) {
+    if (err instanceof ConfigError) {
+      io.stderr(`polecheck: ${err.message}\n`);
+      return 2;
+    }
+    throw err;
+  }
+
   let files: string[];
   try {
-    files = discover(o.paths.length ? o.paths : ['.']);
+    files = selectFiles(o, config, cwd);
   } catch (err) {
     if (err instanceof UsageError) {
       io.stderr(`polecheck: ${err.message}\n`);
@@ -252,10 +360,31 @@ export function main(argv: string[], io: { stdout: (s: string) => void; stderr: 
     }
     throw err;
   }
-  const results = files.map((f) => checkFile(f, o.maxBytes));
-  const text = o.command === 'report'
-    ? o.format === 'json' ? jsonReport(results) : reviewReport(results, p)
-    : o.format === 'json' ? jsonReport(results, { quiet: o.quiet }) : textReport(results, p, { quiet: o.quiet });
+
+  const options: CheckOptions = { rules: config.rules, tolerances: config.tolerances };
+  // The cache serves plain checks only: reports, fixes and their diffs need the models.
+  const useCache = o.cache && o.command === 'check' && !o.fix && !o.fixDryRun;
+  const cache = useCache ? new ResultCache(resolve(cwd, o.cacheLocation), hashOf(VERSION, JSON.stringify(config.rules), JSON.stringify(config.tolerances), new Date().toISOString().slice(0, 10))) : undefined;
+  const texts = new Map<string, string>();
+  const results = files.map((f): FileResult => {
+    const read = readSpecFile(resolve(cwd, f), o.maxBytes, f);
+    if (read.kind === 'done') return read.result;
+    texts.set(f, read.text);
+    const hit = cache?.get(read.text);
+    if (hit) return { path: f, skipped: hit.skipped, findings: hit.findings };
+    const r = checkText(f, read.text, options);
+    cache?.set(read.text, { skipped: r.skipped, findings: r.findings });
+    return r;
+  });
+
+  if (o.fix || o.fixDryRun) {
+    const status = fixFiles(results, texts, o, options, io, cwd);
+    if (status !== undefined) return status;
+  }
+
+  let text: string;
+  if (o.command === 'report') text = o.format === 'json' ? jsonReport(results) : reviewReport(results, p);
+  else text = render(o, results, p);
   if (o.outputFile) {
     try {
       writeFileSync(o.outputFile, text);
@@ -269,4 +398,122 @@ export function main(argv: string[], io: { stdout: (s: string) => void; stderr: 
   if (s.errors > 0) return 1;
   if (o.maxWarnings !== undefined && s.warnings > o.maxWarnings) return 1;
   return 0;
+}
+
+function render(o: Options, results: FileResult[], p: ReturnType<typeof paint>): string {
+  switch (o.format) {
+    case 'json':
+      return jsonReport(results, { quiet: o.quiet });
+    case 'sarif':
+      return sarifReport(results, { version: VERSION, rules: RULES, docs: ruleDocs() });
+    case 'github':
+      return githubReport(quietly(results, o.quiet));
+    case 'gitlab':
+      return gitlabReport(quietly(results, o.quiet));
+    default:
+      return textReport(results, p, { quiet: o.quiet });
+  }
+}
+
+const quietly = (results: FileResult[], quiet: boolean): FileResult[] =>
+  quiet ? results.map((r) => ({ ...r, findings: r.findings.filter((f) => f.severity === 'error' && !f.waived) })) : results;
+
+function ruleDocs(): Record<string, string> {
+  const out: Record<string, string> = {};
+  for (const r of RULES) {
+    try {
+      out[r.id] = readFileSync(join(docsDir(), `${r.id}.md`), 'utf8');
+    } catch {
+      // a page that cannot be read leaves the rule with its one-line description
+    }
+  }
+  return out;
+}
+
+/** The files to check: discovery, the config's include/exclude, --changed, --shard. */
+function selectFiles(o: Options, config: Config, cwd: string): string[] {
+  const named = o.paths.length ? o.paths : ['.'];
+  let files = discover(named, cwd);
+  const explicit = new Set(named.filter((p) => existsPath(resolve(cwd, p)) && !statSync(resolve(cwd, p)).isDirectory()));
+  const rel = (f: string) => relative(config.baseDir, resolve(cwd, f)).split('\\').join('/');
+  const included = config.include.length ? picomatch(config.include, { dot: true }) : () => true;
+  const excluded = config.exclude.length ? picomatch(config.exclude, { dot: true }) : () => false;
+  // A file named on the command line is checked unless excluded; found files must also be included.
+  files = files.filter((f) => !excluded(rel(f)) && (explicit.has(f) || included(rel(f))));
+  if (o.changed) {
+    let out: string;
+    try {
+      const top = execFileSync('git', ['rev-parse', '--show-toplevel'], { cwd, encoding: 'utf8', stdio: ['ignore', 'pipe', 'pipe'] }).trim();
+      const diff = execFileSync('git', ['diff', '--name-only', '--diff-filter=ACMR', o.changed, '--'], { cwd: top, encoding: 'utf8', stdio: ['ignore', 'pipe', 'pipe'] });
+      const untracked = execFileSync('git', ['ls-files', '--others', '--exclude-standard'], { cwd: top, encoding: 'utf8', stdio: ['ignore', 'pipe', 'pipe'] });
+      out = [diff, untracked].join('\n');
+      const changed = new Set(out.split('\n').filter(Boolean).map((f) => resolve(top, f)));
+      files = files.filter((f) => changed.has(resolve(cwd, f)));
+    } catch (err) {
+      throw new UsageError(`--changed ${o.changed}: git could not list the changes (${((err as { stderr?: string }).stderr ?? (err as Error).message).toString().trim().split('\n')[0]})`);
+    }
+  }
+  if (o.shard) {
+    // Deterministic: the sorted list, dealt round-robin, so every file lands in exactly one shard.
+    const { index, count } = o.shard;
+    files = [...files].sort().filter((_, i) => i % count === index - 1);
+  }
+  return files;
+}
+
+/**
+ * Writes `content` beside `path` and renames it over the file — unless the
+ * file no longer holds `expected` (it changed since it was read), in which
+ * case nothing is written. The rename is atomic on one file system.
+ */
+export function writeAtomically(path: string, expected: string, content: string): 'written' | 'changed' {
+  const tmp = join(dirname(path), `.${path.split(/[\\/]/).pop()}.polecheck-${process.pid}-${Math.random().toString(36).slice(2)}.tmp`);
+  try {
+    writeFileSync(tmp, content, { mode: statSync(path).mode });
+    if (readFileSync(path, 'utf8') !== expected) {
+      unlinkSync(tmp);
+      return 'changed';
+    }
+    renameSync(tmp, path);
+    return 'written';
+  } catch (err) {
+    try {
+      unlinkSync(tmp);
+    } catch {
+      // nothing left to clean up
+    }
+    throw err;
+  }
+}
+
+/** --fix and --fix-dry-run. Returns an exit status to stop with, or undefined to go on reporting. */
+function fixFiles(results: FileResult[], texts: Map<string, string>, o: Options, options: CheckOptions, io: MainIO, cwd: string): number | undefined {
+  let failed = false;
+  for (let i = 0; i < results.length; i++) {
+    const r = results[i];
+    const text = texts.get(r.path);
+    if (!text || !r.spec) continue;
+    const edits = planFixes(r, text.charCodeAt(0) === 0xfeff ? text.slice(1) : text, { bounds: o.fixBounds });
+    if (!edits.length) continue;
+    const shift = text.charCodeAt(0) === 0xfeff ? 1 : 0;
+    const fixed = applyEdits(text, edits, shift);
+    if (o.fixDryRun) {
+      io.stdout(createTwoFilesPatch(r.path, r.path, text, fixed, undefined, undefined, { context: 3, headerOptions: FILE_HEADERS_ONLY }));
+      continue;
+    }
+    try {
+      if (writeAtomically(resolve(cwd, r.path), text, fixed) === 'changed') {
+        io.stderr(`polecheck: ${r.path} changed while it was being checked; not fixed\n`);
+        failed = true;
+        continue;
+      }
+    } catch (err) {
+      io.stderr(`polecheck: cannot write ${r.path}: ${(err as Error).message}\n`);
+      failed = true;
+      continue;
+    }
+    io.stderr(`polecheck: fixed ${edits.length} claim${edits.length === 1 ? '' : 's'} in ${r.path} (${edits.map((e) => `${e.claim} at line ${e.line}`).join(', ')})\n`);
+    results[i] = checkText(r.path, fixed, options);
+  }
+  return failed ? 2 : undefined;
 }

@@ -90,7 +90,7 @@ export function conditionsText(spec: Spec, values: Values): string {
     const v = values[c.key];
     if (v === undefined || !Number.isFinite(v)) continue;
     const name = c.key === 'beta' ? 'β' : c.key;
-    parts.push(`${name} = ${c.kind === 'ratio' ? +v.toPrecision(3) : formatQuantity(v, c.kind)}`);
+    parts.push(`${name} = ${c.kind === 'ratio' || v === 0 ? +v.toPrecision(3) : formatQuantity(v, c.kind)}`);
   }
   return parts.join(', ');
 }

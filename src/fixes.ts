@@ -104,18 +104,28 @@ function solveParam(ctx: RuleContext, entry: ClaimEntry, param: string, base: nu
     }
   }
   if (!best) return null;
-  let [lo, hi] = best;
-  let dlo = f(lo)!;
-  for (let i = 0; i < 32; i++) {
-    const mid = Math.sqrt(lo * hi);
-    const dm = f(mid);
-    if (dm === null) return null;
-    if (dm * dlo <= 0) hi = mid;
-    else {
-      lo = mid;
-      dlo = dm;
+  // Illinois (regula falsi that keeps the bracket) on log x: a few evaluations instead of thirty.
+  let [a, b] = best.map(Math.log) as [number, number];
+  let fa = f(Math.exp(a))!;
+  let fb = f(Math.exp(b))!;
+  for (let i = 0; i < 30 && Math.abs(b - a) > 1e-6; i++) {
+    let x = b - (fb * (b - a)) / (fb - fa);
+    if (!(x > Math.min(a, b) && x < Math.max(a, b))) x = 0.5 * (a + b);
+    const fx = f(Math.exp(x));
+    if (fx === null) return null;
+    if (fx === 0) {
+      a = b = x;
+      break;
     }
+    if (fx * fb < 0) {
+      a = b;
+      fa = fb;
+    } else fa /= 2;
+    b = x;
+    fb = fx;
   }
+  const lo = Math.exp(Math.min(a, b));
+  const hi = Math.exp(Math.max(a, b));
   const x = Math.sqrt(lo * hi);
   // Round to three digits on whichever side keeps the claim, re-evaluating both.
   const e = 10 ** (Math.floor(Math.log10(x)) - 2);
@@ -164,7 +174,8 @@ export function designChanges(ctx: RuleContext, entry: ClaimEntry, verdicts: Bou
     }
   }
   for (const param of topo.knobs[entry.key] ?? []) {
-    const s = solveParam(ctx, entry, param, values[param] ?? 0, target);
+    // Aim a little past a bound; if that is out of reach, the bound itself.
+    const s = solveParam(ctx, entry, param, values[param] ?? 0, target) ?? (failing && failing.bound !== 'typ' ? solveParam(ctx, entry, param, values[param] ?? 0, failing.claimed) : null);
     if (s) solved.push(s);
   }
   const out: string[] = [];

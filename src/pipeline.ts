@@ -19,7 +19,8 @@ export type ReadResult =
   | { kind: 'skipped' }
   | { kind: 'spec'; spec: Spec | null; findings: Finding[] };
 
-const SPEC_KEY = /^polecheck[ \t]*:/m;
+// The key may be quoted, or open a flow mapping (`{"polecheck": 1, …}`).
+const SPEC_KEY = /^[ \t{]*["']?polecheck["']?[ \t]*:/m;
 
 const inputError = (rule: string, pos: { line: number; column: number }, message: string, suggestions: string[] = []): Finding => ({
   rule,

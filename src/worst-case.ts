@@ -86,7 +86,8 @@ function search(ctx: RuleContext, claim: string, bound: 'min' | 'max'): WorstPoi
     let moved = false;
     for (const r of ranged) {
       if (!(r.hi > r.lo)) continue;
-      for (const x of [r.lo + (r.hi - r.lo) / 3, r.lo + (2 * (r.hi - r.lo)) / 3, r.lo, r.hi]) {
+      // The other end, then two interior points (figures need not be monotone).
+      for (const x of [r.lo, r.hi, r.lo + (r.hi - r.lo) / 3, r.lo + (2 * (r.hi - r.lo)) / 3]) {
         if (x === best.values[r.key]) continue;
         const p = at({ ...best.values, [r.key]: x });
         if (!p) continue;

@@ -47,7 +47,7 @@ function quantityAt(c: Collector, node: YNode, kind: Kind, key: string, claim: s
     c.error('wrong-unit', at, `\`${key}: ${node.text}\`: ${r.message}`, r.hint ? [`write \`${r.hint}\``] : [], claim);
     return undefined;
   }
-  return { quantity: r.quantity, pos: node.pos };
+  return { quantity: r.quantity, pos: node.pos, ...(node.span ? { span: { start: node.span[0], end: node.span[1] } } : {}) };
 }
 
 function checkPhysical(c: Collector, spec: KeySpec, q: QuantityAt): boolean {

@@ -169,7 +169,7 @@ function readBound(cell: Cell | undefined, unitCell: Cell | undefined, kind: Kin
     out.push(finding('wrong-unit', 'error', cell.pos, `\`${key}\` cell \`${cell.text}\`${bare && unit ? ` with unit \`${unit}\`` : ''}: ${q.message}`, q.hint ? [`write \`${q.hint}\``] : [], key));
     return null;
   }
-  return { quantity: q.quantity, pos: cell.pos };
+  return { quantity: q.quantity, pos: cell.pos, span: { start: cell.pos.offset, end: cell.pos.offset + cell.text.length, ...(bare && unit ? { numberOnly: true } : {}) } };
 }
 
 export function readTables(tree: { children: MdNode[] }, topology: Topology): TableResult {

@@ -5,6 +5,12 @@ import type { Pos } from './position';
 export interface QuantityAt {
   quantity: Quantity;
   pos: Pos;
+  /**
+   * File offsets (in the text as read, BOM excluded) of what `--fix` may
+   * replace: the value's text, and in a table cell whose unit is in the Unit
+   * column, the number alone (`numberOnly`).
+   */
+  span?: { start: number; end: number; numberOnly?: boolean };
 }
 
 /** A param or condition: one value, or a range of them. */

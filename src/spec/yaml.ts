@@ -15,6 +15,8 @@ export interface YScalar {
   /** Plain (unquoted) scalars are the only ones YAML would read as numbers or null. */
   plain: boolean;
   pos: Pos;
+  /** File offsets of the scalar's source text, quotes excluded (absent for an empty value). */
+  span?: [number, number];
 }
 
 export interface YEntry {
@@ -75,6 +77,7 @@ export function parseYaml(source: string, where: (offset: number) => Pos): YamlR
       const empty = ev.valueStart < 0;
       const node: YScalar = { kind: 'scalar', text: empty ? '' : getScalarValue(source, ev), plain: ev.style === PLAIN, pos: empty ? (fallback ?? where(0)) : where(ev.valueStart) };
       if (ev.style !== PLAIN && ev.valueStart > 0) node.pos = where(ev.valueStart - 1); // point at the opening quote
+      if (!empty) node.span = [where(ev.valueStart).offset, where(ev.valueEnd).offset];
       const a = anchorOf(ev);
       if (a) anchors.set(a, node);
       return node;

@@ -134,7 +134,7 @@ describe('exit status (SPEC-FORMAT §5)', () => {
   const usage: Array<[string, string[], RegExp]> = [
     ['an unknown option', ['--frobnicate'], /unknown option '--frobnicate'/],
     ['an unknown short option', ['-x'], /unknown option '-x'/],
-    ['an unknown format', ['--format', 'xml'], /--format takes text or json, got 'xml'/],
+    ['an unknown format', ['--format', 'xml'], /--format takes text, json, sarif, github, gitlab, got 'xml'/],
     ['--format without a value', ['--format'], /--format needs a value/],
     ['--max-warnings without a value', ['--max-warnings'], /--max-warnings needs a value/],
     ['--max-warnings followed by an option', ['--max-warnings', '--quiet'], /--max-warnings needs a value/],

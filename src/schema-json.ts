@@ -1,0 +1,157 @@
+// The JSON Schema (draft-07) of the front matter, generated from the same
+// topology definitions and unit table the reader validates against, so the
+// two cannot drift. For editors that read a `# yaml-language-server: $schema=`
+// modeline, and for other tools.
+
+import { type Kind, UNITS } from './quantity';
+import { FORMAT_VERSION, TOP_KEYS } from './spec/schema';
+import { TOPOLOGIES } from './topologies';
+import type { KeySpec, Topology } from './topologies/types';
+
+type Schema = Record<string, unknown>;
+
+const escape = (s: string): string => s.replace(/[.*+?^${}()|[\]\\/]/g, '\\$&');
+
+const NUMBER = '[+\\-\\u2212]?(?:\\d+(?:\\.\\d*)?|\\.\\d+)(?:[eE][+\\-\\u2212]?\\d+)?';
+
+/** A written quantity of one kind: number, optional space, one of the accepted unit spellings. */
+function quantityPattern(kind: Kind): string {
+  const units = [...UNITS].filter(([, d]) => d.kind === kind).map(([k]) => k).sort((a, b) => b.length - a.length);
+  const unit = units.length ? `\\s*(?:${units.map(escape).join('|')})` : '';
+  return kind === 'ratio' ? `^\\s*${NUMBER}\\s*%?\\s*$` : `^\\s*${NUMBER}${unit}\\s*$`;
+}
+
+const kindDefs = (): Schema => {
+  const defs: Schema = {};
+  for (const kind of new Set([...UNITS.values()].map((d) => d.kind).concat(['ratio']))) {
+    defs[kind] = { type: 'string', pattern: quantityPattern(kind as Kind), description: `a ${kind} as written in a spec` };
+    defs[`${kind}-range`] = {
+      anyOf: [
+        { $ref: `#/definitions/${kind}` },
+        { type: 'string', pattern: quantityPattern(kind as Kind).replace(/\\s\*\$$/, `\\s*(?:±|\\+/-)\\s*${NUMBER}\\s*%\\s*$`) },
+        {
+          type: 'object',
+          properties: { min: { $ref: `#/definitions/${kind}` }, typ: { $ref: `#/definitions/${kind}` }, max: { $ref: `#/definitions/${kind}` } },
+          additionalProperties: false,
+          minProperties: 1,
+        },
+      ],
+    };
+  }
+  return defs;
+};
+
+function valueSchema(k: KeySpec): Schema {
+  const forms: Schema[] = [{ $ref: `#/definitions/${k.kind}-range` }];
+  if (k.kind === 'ratio') forms.push({ type: 'number', exclusiveMinimum: 0, ...(k.max !== undefined ? { maximum: k.max } : {}) });
+  if (k.allowZero) forms.push({ const: 0 }, { const: '0' });
+  if (k.open) forms.push({ const: 'open' });
+  return { description: k.description, anyOf: forms };
+}
+
+const bounds = (kind: Kind): Schema => ({
+  anyOf: [
+    { $ref: `#/definitions/${kind}` },
+    {
+      type: 'object',
+      properties: { min: { $ref: `#/definitions/${kind}` }, typ: { $ref: `#/definitions/${kind}` }, max: { $ref: `#/definitions/${kind}` } },
+      additionalProperties: false,
+      minProperties: 1,
+    },
+  ],
+});
+
+function section(keys: KeySpec[], required: boolean): Schema {
+  return {
+    type: 'object',
+    properties: Object.fromEntries(keys.map((k) => [k.key, valueSchema(k)])),
+    additionalProperties: false,
+    ...(required ? { required: keys.filter((k) => k.required).map((k) => k.key) } : {}),
+  };
+}
+
+function topologyBranch(t: Topology): Schema {
+  return {
+    if: { properties: { topology: { const: t.id } }, required: ['topology'] },
+    then: {
+      properties: {
+        params: section(t.params, true),
+        conditions: section(t.conditions, false),
+        claims: { type: 'object', properties: Object.fromEntries(t.claims.map((c) => [c.key, { description: c.description, ...bounds(c.kind) }])), additionalProperties: false },
+        network: false,
+      },
+      required: ['params'],
+    },
+  };
+}
+
+// Node names; YAML reads a bare `0` (ground) as a number.
+const NODE = { anyOf: [{ type: 'string', minLength: 1 }, { const: 0 }] };
+
+function networkBranch(): Schema {
+  const pair = { type: 'array', items: NODE, minItems: 2, maxItems: 2 };
+  const value = (kind: Kind) => ({ $ref: `#/definitions/${kind}-range` });
+  const element = {
+    oneOf: [
+      { type: 'object', properties: { kind: { const: 'resistor' }, between: pair, value: value('resistance') }, required: ['kind', 'between', 'value'], additionalProperties: false },
+      { type: 'object', properties: { kind: { const: 'capacitor' }, between: pair, value: value('capacitance') }, required: ['kind', 'between', 'value'], additionalProperties: false },
+      { type: 'object', properties: { kind: { const: 'transconductance' }, into: NODE, from: NODE, control: pair, value: value('conductance') }, required: ['kind', 'into', 'control', 'value'], additionalProperties: false },
+    ],
+  };
+  const claims = TOPOLOGIES[0].claims.filter((c) => c.key !== 'slew_rate');
+  return {
+    if: { properties: { topology: { const: 'network' } }, required: ['topology'] },
+    then: {
+      properties: {
+        network: {
+          type: 'object',
+          properties: { input: NODE, output: NODE, nodes: { type: 'array', items: NODE, minItems: 1 }, elements: { type: 'object', additionalProperties: element, minProperties: 1 } },
+          required: ['input', 'output', 'nodes', 'elements'],
+          additionalProperties: false,
+        },
+        params: false,
+        conditions: section(TOPOLOGIES[0].conditions, false),
+        claims: {
+          type: 'object',
+          properties: Object.fromEntries([...claims.map((c) => [c.key, bounds(c.kind)]), ['bandwidth', bounds('frequency')]]),
+          additionalProperties: false,
+        },
+      },
+      required: ['network'],
+    },
+  };
+}
+
+export function jsonSchema(): Schema {
+  return {
+    $schema: 'http://json-schema.org/draft-07/schema#',
+    $id: `urn:polecheck:spec-format:${FORMAT_VERSION}`,
+    title: 'polecheck spec front matter',
+    description: `Front matter of an analog block spec, format version ${FORMAT_VERSION}. Generated by \`polecheck schema\` from the definitions polecheck itself validates against.`,
+    type: 'object',
+    required: ['polecheck', 'topology'],
+    properties: {
+      polecheck: { const: FORMAT_VERSION },
+      block: { type: 'string' },
+      title: { type: 'string' },
+      topology: { enum: [...TOPOLOGIES.map((t) => t.id), 'network'] },
+      network: { type: 'object' },
+      params: { type: 'object' },
+      conditions: { type: 'object' },
+      claims: { type: 'object' },
+      waivers: {
+        type: 'array',
+        items: {
+          type: 'object',
+          properties: { rule: { type: 'string' }, claim: { type: 'string' }, reason: { type: 'string', minLength: 1 }, expires: { type: 'string', pattern: '^\\d{4}-\\d{2}-\\d{2}$' } },
+          required: ['rule', 'reason'],
+          additionalProperties: false,
+        },
+      },
+    },
+    additionalProperties: false,
+    propertyNames: { enum: [...TOP_KEYS] },
+    allOf: [...TOPOLOGIES.map(topologyBranch), networkBranch()],
+    definitions: kindDefs(),
+  };
+}
