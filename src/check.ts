@@ -69,8 +69,10 @@ function contextFor(spec: Spec, overrides: Values, claims: ClaimEntry[], options
     if (memo.size < 5000) memo.set(key, out);
     return out;
   };
-  // Overrides replace the front matter's conditions, at the typical point and at every corner.
-  const view: Spec = { ...spec, claims };
+  // Overrides replace the front matter's conditions, at the typical point and at
+  // every corner: an overridden condition is no longer ranged at this point.
+  const conditions = new Map([...spec.conditions].filter(([k]) => !(k in overrides)));
+  const view: Spec = { ...spec, claims, conditions };
   const { corners: points, limited } = corners(view);
   const evaluated: Evaluated[] = points.map((c) => {
     const corner = { ...c, values: { ...c.values, ...overrides } };

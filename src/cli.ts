@@ -4,7 +4,7 @@
 import { execFileSync } from 'node:child_process';
 import { closeSync, openSync, readFileSync, readSync, readdirSync, realpathSync, renameSync, statSync, unlinkSync, writeFileSync } from 'node:fs';
 import { dirname, join, relative, resolve } from 'node:path';
-import { fileURLToPath } from 'node:url';
+import { fileURLToPath, pathToFileURL } from 'node:url';
 import { FILE_HEADERS_ONLY, createTwoFilesPatch } from 'diff';
 import picomatch from 'picomatch';
 import { RULES } from '../rules';
@@ -405,7 +405,14 @@ function render(o: Options, results: FileResult[], p: ReturnType<typeof paint>):
     case 'json':
       return jsonReport(results, { quiet: o.quiet });
     case 'sarif':
-      return sarifReport(results, { version: VERSION, rules: RULES, docs: ruleDocs() });
+      // The rule pages ship with the package; link them where it is installed.
+      return sarifReport(results, {
+        version: VERSION,
+        rules: RULES,
+        docs: ruleDocs(),
+        docsBase: pathToFileURL(docsDir()).href,
+        informationUri: pathToFileURL(resolve(docsDir(), '..', 'README.md')).href,
+      });
     case 'github':
       return githubReport(quietly(results, o.quiet));
     case 'gitlab':

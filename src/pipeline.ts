@@ -39,7 +39,13 @@ export function readDocument(path: string, raw: string): ReadResult {
   // Front matter can only open a file; most non-spec pages leave here unparsed.
   if (!text.startsWith('---') || !SPEC_KEY.test(text)) return { kind: 'skipped' };
   const index = new LineIndex(text);
-  const tree = processor.parse(text);
+  // Markdown parsing dominates the cost of a check: parse just the front matter
+  // (its node is the same as in the whole document's tree), and the whole
+  // document only when its body may hold a table.
+  const fence = /\n---[ \t]*(?:\n|$)/.exec(text.slice(3));
+  const headEnd = fence ? 3 + fence.index + fence[0].length : text.length;
+  const bodyHasTable = text.indexOf('|', headEnd) >= 0;
+  const tree = processor.parse(bodyHasTable ? text : text.slice(0, headEnd));
   const yamlNode = tree.children[0]?.type === 'yaml' ? tree.children[0] : undefined;
   if (!yamlNode?.position) {
     // An opening fence with the spec key but no closing fence is a broken spec, not a page.
