@@ -12,7 +12,7 @@ import { DEFAULT_CACHE_DIR, ResultCache, hashOf } from './cache';
 import { type CheckOptions, type FileResult, checkText } from './check';
 import { type Config, ConfigError, defaultConfig, findConfig, loadConfig } from './config';
 import { applyEdits, planFixes } from './fix';
-import { jsonSchema } from './schema-json';
+import { configSchema, jsonSchema } from './schema-json';
 import { jsonReport } from './report/json';
 import { reviewReport } from './report/review';
 import { paint, useColor } from './report/style';
@@ -35,7 +35,7 @@ usage:
   polecheck report [options] [paths…]    every claim: claimed, exact, hand estimate, verdict (exit 0)
   polecheck rules                        list the rules with their default severity
   polecheck explain RULE                 print a rule's documentation
-  polecheck schema                       print the JSON Schema (draft-07) of the front matter
+  polecheck schema [spec|config]         print the JSON Schema (draft-07) of the front matter or of polecheck.yaml
 
 options:
   --format FORMAT        text (default), json, sarif, github or gitlab
@@ -333,7 +333,13 @@ export function main(argv: string[], io: MainIO): number {
     return 0;
   }
   if (o.command === 'schema') {
-    io.stdout(`${JSON.stringify(jsonSchema(), null, 2)}\n`);
+    // `polecheck schema` for specs, `polecheck schema config` for polecheck.yaml.
+    const which = o.paths[0] ?? 'spec';
+    if (which !== 'spec' && which !== 'config') {
+      io.stderr(`polecheck: schema takes \`spec\` (default) or \`config\`, got '${which}'\n`);
+      return 2;
+    }
+    io.stdout(`${JSON.stringify(which === 'config' ? configSchema() : jsonSchema(), null, 2)}\n`);
     return 0;
   }
 

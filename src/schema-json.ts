@@ -4,6 +4,7 @@
 // modeline, and for other tools.
 
 import { type Kind, UNITS } from './quantity';
+import { RULES } from '../rules';
 import { FORMAT_VERSION, TOP_KEYS } from './spec/schema';
 import { TOPOLOGIES } from './topologies';
 import type { KeySpec, Topology } from './topologies/types';
@@ -153,5 +154,50 @@ export function jsonSchema(): Schema {
     propertyNames: { enum: [...TOP_KEYS] },
     allOf: [...TOPOLOGIES.map(topologyBranch), networkBranch()],
     definitions: kindDefs(),
+  };
+}
+
+/** The JSON Schema of polecheck.yaml, from the rule registry and the tolerance kinds the reader accepts. */
+export function configSchema(): Schema {
+  const severity = { enum: ['off', 'info', 'warning', 'error'] };
+  const rules = Object.fromEntries(
+    RULES.map((r) => [
+      r.id,
+      {
+        description: r.description,
+        anyOf: [
+          severity,
+          {
+            type: 'object',
+            properties: { severity, ...Object.fromEntries(Object.keys(r.options).map((o) => [o, { type: 'number' }])) },
+            additionalProperties: false,
+          },
+        ],
+      },
+    ]),
+  );
+  const percent = { type: 'string', pattern: `^\\s*${NUMBER}\\s*%\\s*$` };
+  const globs = { anyOf: [{ type: 'string' }, { type: 'array', items: { type: 'string' } }] };
+  return {
+    $schema: 'http://json-schema.org/draft-07/schema#',
+    $id: 'urn:polecheck:config',
+    title: 'polecheck.yaml',
+    type: 'object',
+    properties: {
+      rules: { type: 'object', properties: rules, additionalProperties: false },
+      tolerances: {
+        type: 'object',
+        properties: {
+          frequency: percent,
+          slew: percent,
+          gain: { type: 'string', pattern: `^\\s*${NUMBER}\\s*dB\\s*$` },
+          angle: { type: 'string', pattern: quantityPattern('angle') },
+        },
+        additionalProperties: false,
+      },
+      include: globs,
+      exclude: globs,
+    },
+    additionalProperties: false,
   };
 }

@@ -11,7 +11,7 @@ import { ResultCache } from '../../src/cache';
 import { checkText } from '../../src/check';
 import { main, writeAtomically } from '../../src/cli';
 import { ConfigError, parseConfig } from '../../src/config';
-import { jsonSchema } from '../../src/schema-json';
+import { configSchema, jsonSchema } from '../../src/schema-json';
 
 const SPEC = (claims: string, extra = '') => `---
 polecheck: 1
@@ -287,5 +287,21 @@ describe('polecheck schema', () => {
   it('is printed by `polecheck schema`', () => {
     const r = run(['schema'], tmp());
     expect(JSON.parse(r.stdout).$schema).toBe('http://json-schema.org/draft-07/schema#');
+  });
+});
+
+describe('polecheck schema config', () => {
+  const validate = new Ajv({ allErrors: true, strict: false }).compile(configSchema());
+  it('accepts what the reader accepts and rejects what it rejects', () => {
+    const good = ['rules:\n  second-pole-spacing: off\n  rhp-zero-spacing: {severity: warning, ratio: 8}\ntolerances:\n  frequency: 5%\n  gain: 0.5 dB\n  angle: 2 deg\ninclude: [specs/**/*.md]\n'];
+    const bad = ['rules:\n  phase-margn: off\n', 'rules:\n  phase-margin: loud\n', 'tolerances:\n  frequency: 5 dB\n', 'tolerence: {}\n', 'rules:\n  phase-margin: {ratio: 2}\n'];
+    for (const text of good) {
+      expect(validate(load(text)), text).toBe(true);
+      expect(() => parseConfig('p.yaml', text)).not.toThrow();
+    }
+    for (const text of bad) {
+      expect(validate(load(text)), text).toBe(false);
+      expect(() => parseConfig('p.yaml', text), text).toThrow(ConfigError);
+    }
   });
 });
