@@ -33,6 +33,7 @@ const rule: Rule = {
     const stated = (c: ClaimEntry) => [c.typ && c.typ.quantity.written.text, c.min && `≥ ${c.min.quantity.written.text}`, c.max && `≤ ${c.max.quantity.written.text}`].filter(Boolean).join(', ');
     const out: Draft[] = [];
     const claims = ctx.spec.claims;
+    const reported = new Set<number>();
     for (let j = 0; j < claims.length; j++) {
       for (let i = 0; i < j; i++) {
         const a = claims[i];
@@ -41,6 +42,9 @@ const rule: Rule = {
         const [alo, ahi] = interval(a);
         const [blo, bhi] = interval(b);
         if (Math.max(alo, blo) <= Math.min(ahi, bhi)) continue;
+        // Each statement is reported once, against the first earlier one it contradicts.
+        if (reported.has(j)) continue;
+        reported.add(j);
         const place = (c: ClaimEntry) => (c.source === 'table' ? (c.typ ?? c.min ?? c.max)!.pos : c.keyPos);
         const pos = place(b);
         const first = place(a);

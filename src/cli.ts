@@ -266,6 +266,16 @@ export function readSpecFile(file: string, maxBytes: number, path = file): ReadF
   } catch (err) {
     return { kind: 'done', result: readError(path, 'read-error', `cannot read the file: ${(err as NodeJS.ErrnoException).code ?? (err as Error).message}`) };
   }
+  // A spec saved as UTF-16 would otherwise pass for a page without front matter.
+  const utf16 = (bytes[0] === 0xff && bytes[1] === 0xfe) || (bytes[0] === 0xfe && bytes[1] === 0xff);
+  if (utf16) {
+    const le = bytes[0] === 0xff;
+    const body = le ? bytes.subarray(2) : Buffer.from(bytes.subarray(2)).swap16();
+    if (looksLikeSpec(Buffer.from(body.toString('utf16le').slice(0, HEAD_BYTES), 'utf8'))) {
+      return { kind: 'done', result: readError(path, 'encoding', `the file is UTF-16 (${le ? 'little' : 'big'}-endian); specs are read as UTF-8: save it as UTF-8`) };
+    }
+    return { kind: 'done', result: { path, skipped: true, findings: [] } };
+  }
   if (!looksLikeSpec(bytes.subarray(0, HEAD_BYTES))) return { kind: 'done', result: { path, skipped: true, findings: [] } };
   try {
     // ignoreBOM keeps a byte-order mark in the text, so that --fix writes it back.
@@ -454,10 +464,13 @@ function selectFiles(o: Options, config: Config, cwd: string): string[] {
   // A file named on the command line is checked unless excluded; found files must also be included.
   files = files.filter((f) => !excluded(rel(f)) && (explicit.has(f) || included(rel(f))));
   if (o.changed) {
+    // A ref is never an option: `--changed=--output=FILE` must not reach git as one.
+    if (o.changed.startsWith('-')) throw new UsageError(`--changed takes a git ref, got '${o.changed}'`);
     let out: string;
     try {
+      execFileSync('git', ['rev-parse', '--verify', '--quiet', '--end-of-options', `${o.changed}^{commit}`], { cwd, stdio: ['ignore', 'pipe', 'pipe'] });
       const top = execFileSync('git', ['rev-parse', '--show-toplevel'], { cwd, encoding: 'utf8', stdio: ['ignore', 'pipe', 'pipe'] }).trim();
-      const diff = execFileSync('git', ['diff', '--name-only', '--diff-filter=ACMR', o.changed, '--'], { cwd: top, encoding: 'utf8', stdio: ['ignore', 'pipe', 'pipe'] });
+      const diff = execFileSync('git', ['diff', '--name-only', '--diff-filter=ACMR', '--end-of-options', o.changed, '--'], { cwd: top, encoding: 'utf8', stdio: ['ignore', 'pipe', 'pipe'] });
       const untracked = execFileSync('git', ['ls-files', '--others', '--exclude-standard'], { cwd: top, encoding: 'utf8', stdio: ['ignore', 'pipe', 'pipe'] });
       out = [diff, untracked].join('\n');
       const changed = new Set(out.split('\n').filter(Boolean).map((f) => resolve(top, f)));

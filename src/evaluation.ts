@@ -17,7 +17,8 @@ function entries(spec: Spec): ValueEntry[] {
 }
 
 export function typicalValues(spec: Spec): Values {
-  const v: Values = {};
+  // No prototype: an element named `__proto__` or `constructor` is an ordinary key.
+  const v: Values = Object.create(null);
   for (const s of [...spec.topology.params, ...spec.topology.conditions]) if (s.default !== undefined) v[s.key] = s.default;
   for (const e of entries(spec)) {
     if (e.open) delete v[e.key];

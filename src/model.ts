@@ -69,5 +69,20 @@ export function evaluate(topology: Topology, values: Values): Model {
   Object.assign(exact, topology.largeSignal(values), topology.figures?.(values));
 
   const hand = topology.hand(values, exact);
-  return { topology, values, beta, analysis, loop, exact, hand: hand.figures, caveats: hand.caveats };
+  return { topology, values, beta, analysis, loop, exact: finite(exact), hand: finite(hand.figures), caveats: hand.caveats };
+}
+
+/**
+ * No figure leaves the model as Infinity or NaN: values beyond what double
+ * precision represents (a 1e-18 F capacitor in a hand formula) become a
+ * missing figure that says so.
+ */
+function finite(figures: Record<string, Figure>): Record<string, Figure> {
+  const out: Record<string, Figure> = {};
+  for (const [k, f] of Object.entries(figures)) {
+    out[k] = f.value === null || Number.isFinite(f.value)
+      ? f
+      : missing(f.unit, f.method, f.how, 'the figure has no finite value at these values (a term of its formula vanishes, or the values exceed what double precision resolves)');
+  }
+  return out;
 }

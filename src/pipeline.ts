@@ -45,7 +45,17 @@ export function readDocument(path: string, raw: string): ReadResult {
   const fence = /\n---[ \t]*(?:\n|$)/.exec(text.slice(3));
   const headEnd = fence ? 3 + fence.index + fence[0].length : text.length;
   const bodyHasTable = text.indexOf('|', headEnd) >= 0;
-  const tree = processor.parse(bodyHasTable ? text : text.slice(0, headEnd));
+  let tree: ReturnType<typeof processor.parse>;
+  let bodyProblem: Finding | undefined;
+  try {
+    tree = processor.parse(bodyHasTable ? text : text.slice(0, headEnd));
+  } catch (err) {
+    // A body nested deeper than the Markdown parser's stack goes: check the
+    // front matter alone and say that the body's tables were not read.
+    if (!(err instanceof RangeError)) throw err;
+    tree = processor.parse(text.slice(0, headEnd));
+    bodyProblem = { rule: 'table', severity: 'warning', line: index.pos(headEnd).line, column: 1, claim: null, message: 'the Markdown body is nested too deeply to parse; its datasheet tables were not read', suggestions: [] };
+  }
   const yamlNode = tree.children[0]?.type === 'yaml' ? tree.children[0] : undefined;
   if (!yamlNode?.position) {
     // An opening fence with the spec key but no closing fence is a broken spec, not a page.
@@ -73,6 +83,7 @@ export function readDocument(path: string, raw: string): ReadResult {
     const tables = readTables(tree as never, spec.topology);
     spec.claims.push(...tables.claims);
     findings.push(...tables.findings);
+    if (bodyProblem) findings.push(bodyProblem);
   }
   return { kind: 'spec', spec, findings };
 }

@@ -79,7 +79,8 @@ export const holdsAll = (verdicts: BoundVerdict[]): boolean => verdicts.every((v
 export const show = (value: number | null, kind: Kind): string => (value === null ? 'no value' : formatQuantity(value, kind));
 
 /** A percentage in plain digits: two significant below 100, whole numbers above. */
-export const percent = (p: number): string => (p >= 100 ? Math.round(p).toString() : p.toPrecision(2));
+export const percent = (p: number): string =>
+  !Number.isFinite(p) || p >= 1e6 ? 'more than a million' : p >= 100 ? Math.round(p).toString() : p.toPrecision(2);
 
 /** How far off, in words: "17.9° short", "20 % low", "3.2 dB high". */
 export function offBy(v: BoundVerdict, computed: number, kind: Kind): string {

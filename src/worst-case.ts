@@ -73,7 +73,7 @@ function search(ctx: RuleContext, claim: string, bound: 'min' | 'max'): WorstPoi
   if (ctx.cornersLimited) {
     // Each key to the end that, alone, made the figure worse.
     const typ = points[0].value;
-    const vertex: Values = { ...points[0].values };
+    const vertex: Values = Object.assign(Object.create(null), points[0].values);
     for (const r of ranged) {
       const lo = points.find((p) => p.label === `${r.key} min`)?.value ?? typ;
       const hi = points.find((p) => p.label === `${r.key} max`)?.value ?? typ;

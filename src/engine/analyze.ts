@@ -5,7 +5,7 @@
 import { type Figure, figure, missing } from './figure';
 import { complexLU, complexSolve, realLU, realSolve } from './linalg';
 import { GROUND, type Network, NetworkError, type Stamped, stamp } from './network';
-import { type Root, pencilRoots, rootHz } from './roots';
+import { type Root, SingularPencilError, pencilRoots, rootHz } from './roots';
 
 const TWO_PI = 2 * Math.PI;
 const DEG = 180 / Math.PI;
@@ -44,7 +44,15 @@ export function analyzeNetwork(net: Network): NetworkAnalysis {
   const xDc = realSolve(luDc, n, gIn.map((v) => -v));
   const dcGain = xDc[out];
 
-  const { roots: poles, polished: polesPolished } = pencilRoots(G, C, n);
+  const roots = (A: Float64Array, B: Float64Array, size: number) => {
+    try {
+      return pencilRoots(A, B, size);
+    } catch (err) {
+      if (err instanceof SingularPencilError) throw new NetworkError(`the network cannot be solved: ${err.message} (values outside what double precision resolves?)`);
+      throw err;
+    }
+  };
+  const { roots: poles, polished: polesPolished } = roots(G, C, n);
   // Zeros: roots of the bordered pencil [[G + sC, gIn + s·cIn], [e_outᵀ, 0]],
   // whose determinant is, up to sign, the numerator of H(s) (Cramer's rule).
   const m = n + 1;
@@ -59,7 +67,7 @@ export function analyzeNetwork(net: Network): NetworkAnalysis {
     Ca[i * m + n] = cIn[i];
   }
   Ga[n * m + out] = 1;
-  const { roots: zeros, polished: zerosPolished } = pencilRoots(Ga, Ca, m);
+  const { roots: zeros, polished: zerosPolished } = roots(Ga, Ca, m);
 
   const re = new Float64Array(n * n);
   const im = new Float64Array(n * n);
@@ -179,19 +187,20 @@ function refine(g: (fHz: number) => number, target: number, a: number, b: number
  * each refined by bisection in log f on the exact response.
  */
 function signChanges(s: Sweep, values: number[], target: number, g: (fHz: number) => number): number[] {
+  // Values within round-off of the level (a response that only touches it, or
+  // sits on it over a band) carry no sign; a crossing is a change of sign
+  // between two values clear of that noise.
+  const NOISE = 1e-7;
   const found: number[] = [];
-  for (let i = 1; i < s.f.length; i++) {
-    const ga = values[i - 1] - target;
-    const gb = values[i] - target;
-    if (ga === 0) {
-      found.push(s.f[i - 1]);
-      continue;
+  let last = -1;
+  for (let i = 0; i < s.f.length; i++) {
+    const gi = values[i] - target;
+    if (!(Math.abs(gi) >= NOISE)) continue;
+    if (last >= 0) {
+      const gl = values[last] - target;
+      if (gl * gi < 0) found.push(refine(g, target, Math.log(s.f[last]), Math.log(s.f[i]), gl, gi));
     }
-    if (!(ga * gb < 0)) continue;
-    // A response that only tends to the level (|A| → 1 above every pole) crosses it
-    // in round-off alone: such sign changes, all within 1e-7 dB, are no crossing.
-    if (Math.max(Math.abs(ga), Math.abs(gb)) < 1e-7) continue;
-    found.push(refine(g, target, Math.log(s.f[i - 1]), Math.log(s.f[i]), ga, gb));
+    last = i;
   }
   return found;
 }
@@ -212,6 +221,8 @@ export interface LoopAnalysis {
 }
 
 const fmtHz = (f: number): string => `${f.toPrecision(4)} Hz`;
+/** Two decimals without a negative zero (`-0.00`). */
+const fixed2 = (x: number): string => (Math.abs(x) < 0.005 ? '0.00' : x.toFixed(2));
 
 export function analyzeLoop(a: NetworkAnalysis, beta: number): LoopAnalysis {
   const [lo0, hi0] = a.searchRange;
@@ -232,7 +243,14 @@ export function analyzeLoop(a: NetworkAnalysis, beta: number): LoopAnalysis {
   };
   const hi = extend(loopDb);
   const hiA = Math.max(hi, extend(0));
-  const lo = lo0;
+  // Extend the search downward while the gain near DC is within a decibel of a
+  // level it must cross (a gain just above 1 crosses far below every pole).
+  const extendDown = (offsetDb: number): number => {
+    let f = lo0;
+    for (let i = 0; i < 12 && Math.abs(a.at(f).magDb + offsetDb) < 1; i++) f /= 10;
+    return f;
+  };
+  const lo = Math.min(extendDown(0), extendDown(loopDb));
   // Besides each root's own frequency, a resonant pair's half-power points,
   // so that a narrow peak cannot cross unity between two grid points unseen.
   const rootFreqs: number[] = [];
@@ -253,7 +271,7 @@ export function analyzeLoop(a: NetworkAnalysis, beta: number): LoopAnalysis {
   const unityCrossings = signChanges(s, s.magDb, 0, mag);
   let unityGain: Figure;
   if (a.at(lo).magDb <= 0 && unityCrossings.length === 0) {
-    unityGain = missing('Hz', 'frequency-search', '|A(jω)| = 1 searched on the exact response', `|A| stays below 1 (DC gain ${a.at(lo).magDb.toFixed(2)} dB): no unity-gain frequency`);
+    unityGain = missing('Hz', 'frequency-search', '|A(jω)| = 1 searched on the exact response', `|A| stays below 1 (DC gain ${fixed2(a.at(lo).magDb)} dB): no unity-gain frequency`);
   } else if (unityCrossings.length === 0) {
     unityGain = missing('Hz', 'frequency-search', '|A(jω)| = 1 searched on the exact response', '|A| stays above 1 at every frequency searched');
   } else {
@@ -274,7 +292,7 @@ export function analyzeLoop(a: NetworkAnalysis, beta: number): LoopAnalysis {
   if (crossoversHz.length === 0) {
     const dc = loopMag(lo);
     phaseMargin = dc < 0
-      ? missing('deg', 'frequency-search', pmHow, `|βA| stays below 1 (loop gain at DC ${dc.toFixed(2)} dB): no crossover, so no phase margin`)
+      ? missing('deg', 'frequency-search', pmHow, `|βA| stays below 1 (loop gain at DC ${fixed2(dc)} dB): no crossover, so no phase margin`)
       : missing('deg', 'frequency-search', pmHow, '|βA| stays above 1 at every frequency searched: no crossover');
   } else {
     const margins = crossoversHz.map((f) => 180 + a.at(f).phaseDeg);

@@ -9,6 +9,8 @@ export interface Root {
   im: number;
 }
 
+export class SingularPencilError extends Error {}
+
 export interface PencilRoots {
   roots: Root[];
   /** True when every root was refined to convergence by Newton's method on det(A + sB). */
@@ -40,16 +42,20 @@ export function pencilRoots(A: Float64Array, B: Float64Array, n: number): Pencil
   for (let pass = 0; pass < 5; pass++) {
     const start = shiftInvertRoots(A, B, n, pass === 0 ? candidateShifts(A, B, n) : [-far * 1e6, far * 1.3e6]);
     if (!start) {
-      if (pass === 0) throw new Error('the network matrices are singular at every trial frequency');
+      if (pass === 0) throw new SingularPencilError('the network matrices are singular at every trial frequency');
       break;
     }
     if (pass === 0) firstShift = start.shift;
     const { roots, converged } = polish(A, B, n, start.roots, accepted);
     polishedAll &&= converged;
     let added = 0;
+    // A later pass exists to find roots beyond the largest one found so far
+    // (the earlier pass resolved everything below it); what it finds again
+    // below that is a poorly resolved copy. Within one pass, equal roots are a
+    // genuine multiple root and all are kept.
     for (const r of roots) {
       const size = Math.hypot(r.re, r.im);
-      if (accepted.some((q) => Math.hypot(q.re - r.re, q.im - r.im) <= 1e-7 * size)) continue;
+      if (pass > 0 && size <= far * 1.01) continue;
       accepted.push(r);
       added++;
     }
@@ -173,8 +179,38 @@ function polish(A: Float64Array, B: Float64Array, n: number, start: Root[], fixe
       lastStep[k] = step;
     }
   }
+  // Last check, without the other roots' share: a root of det(A + sB) has a
+  // plain Newton step that is tiny beside it (also for a multiple root, where
+  // it is (s − r)/m). An estimate that Aberth's repulsion parked between roots,
+  // or one far out where A + sB ≈ sB, fails it.
+  for (let k = 0; k < roots.length; k++) {
+    if (rejected[k]) continue;
+    const step = newtonStep(A, B, n, roots[k], re, im, br, zero, xr, xi);
+    if (step === null) continue; // exactly singular: a root
+    if (step > 1e-6 * Math.hypot(roots[k].re, roots[k].im)) rejected[k] = true;
+  }
   // Iterations that ran out before converging are reported as not polished.
   return { roots: roots.filter((_, k) => !rejected[k]), converged: done.every((d) => d) };
+}
+
+/** |1/tr((A + sB)⁻¹B)|, the size of a plain Newton step on det(A + sB); null at an exact root. */
+function newtonStep(A: Float64Array, B: Float64Array, n: number, s: Root, re: Float64Array, im: Float64Array, br: Float64Array, zero: Float64Array, xr: Float64Array, xi: Float64Array): number | null {
+  for (let i = 0; i < n * n; i++) {
+    re[i] = A[i] + s.re * B[i];
+    im[i] = s.im * B[i];
+  }
+  const lu = complexLU(re, im, n);
+  if (lu.pivotRatio < 1e-300) return null;
+  let tr = 0;
+  let ti = 0;
+  for (let j = 0; j < n; j++) {
+    for (let i = 0; i < n; i++) br[i] = B[i * n + j];
+    complexSolve(lu, br, zero, xr, xi);
+    tr += xr[j];
+    ti += xi[j];
+  }
+  const t = Math.hypot(tr, ti);
+  return t === 0 ? Infinity : 1 / t;
 }
 
 function symmetrise(roots: Root[]): Root[] {

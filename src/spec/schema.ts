@@ -43,7 +43,9 @@ function quantityAt(c: Collector, node: YNode, kind: Kind, key: string, claim: s
   }
   const r = parseQuantity(node.text, kind);
   if (!r.ok) {
-    const at = { ...node.pos, column: node.pos.column + (node.plain ? r.offset : r.offset + 1) };
+    // The place of the problem in the file: inside the written text, or at the
+    // alias that stands for text written elsewhere.
+    const at = node.aliased ? node.pos : node.at ? node.at(r.offset) : { ...node.pos, column: node.pos.column + (node.plain ? r.offset : r.offset + 1) };
     c.error('wrong-unit', at, `\`${key}: ${node.text}\`: ${r.message}`, r.hint ? [`write \`${r.hint}\``] : [], claim);
     return undefined;
   }

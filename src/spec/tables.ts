@@ -175,11 +175,13 @@ function readBound(cell: Cell | undefined, unitCell: Cell | undefined, kind: Kin
 export function readTables(tree: { children: MdNode[] }, topology: Topology): TableResult {
   const claims: ClaimEntry[] = [];
   const findings: Finding[] = [];
-  const visit = (n: MdNode): void => {
+  // Iterative, in document order: a body may nest deeper than the call stack.
+  const stack: MdNode[] = [...tree.children].reverse();
+  while (stack.length) {
+    const n = stack.pop()!;
     if (n.type === 'table') readTable(n, topology, claims, findings);
-    else for (const c of n.children ?? []) visit(c);
-  };
-  for (const c of tree.children) visit(c);
+    else if (n.children) for (let i = n.children.length - 1; i >= 0; i--) stack.push(n.children[i]);
+  }
   return { claims, findings };
 }
 

@@ -17,6 +17,13 @@ export interface YScalar {
   pos: Pos;
   /** File offsets of the scalar's source text, quotes excluded (absent for an empty value). */
   span?: [number, number];
+  /**
+   * Where the i-th character of `text` stands in the file, when the source is
+   * not the text itself (folded lines, escapes, block scalars).
+   */
+  at?: (i: number) => Pos;
+  /** Reached through an alias: the text stands elsewhere. */
+  aliased?: boolean;
 }
 
 export interface YEntry {
@@ -59,14 +66,35 @@ export function parseYaml(source: string, where: (offset: number) => Pos): YamlR
   let events: Event[];
   try {
     events = parseEvents(source, { maxDepth: MAX_DEPTH });
-    // Run the constructor for its checks only; the values come from the events.
+  } catch (err) {
+    return { ok: false, error: yamlError(err, where, source) };
+  }
+  const tree = buildTree(source, events, where);
+  if (!tree.ok) return tree;
+  try {
+    // The constructor runs for its checks only (duplicate keys, tags, alias
+    // limits); the values come from the events.
     constructFromEvents(events, { source, maxAliases: MAX_ALIASES });
   } catch (err) {
     return { ok: false, error: yamlError(err, where, source) };
   }
+  return tree;
+}
+
+function buildTree(source: string, events: Event[], where: (offset: number) => Pos): YamlResult {
   const anchors = new Map<string, YNode>();
   let i = 0;
   const next = (): Event | undefined => events[i++];
+
+  const offsetOf = (ev: Event): number =>
+    Math.max(0, ev.type === EVENT.SCALAR ? (ev.style === PLAIN ? ev.valueStart : ev.valueStart - 1) : ev.type === EVENT.MAPPING || ev.type === EVENT.SEQUENCE ? ev.start : ev.type === EVENT.ALIAS ? ev.anchorStart - 1 : 0);
+
+  // The first visible character of the line holding `offset` (a `? key` line starts with the `?`).
+  const lineStart = (offset: number): number => {
+    let i = source.lastIndexOf('\n', offset - 1) + 1;
+    while (source[i] === ' ' || source[i] === '\t') i++;
+    return i;
+  };
 
   const anchorOf = (ev: { anchorStart: number; anchorEnd: number }): string | undefined =>
     ev.anchorStart >= 0 ? source.slice(ev.anchorStart, ev.anchorEnd) : undefined;
@@ -78,6 +106,25 @@ export function parseYaml(source: string, where: (offset: number) => Pos): YamlR
       const node: YScalar = { kind: 'scalar', text: empty ? '' : getScalarValue(source, ev), plain: ev.style === PLAIN, pos: empty ? (fallback ?? where(0)) : where(ev.valueStart) };
       if (ev.style !== PLAIN && ev.valueStart > 0) node.pos = where(ev.valueStart - 1); // point at the opening quote
       if (!empty) node.span = [where(ev.valueStart).offset, where(ev.valueEnd).offset];
+      if (!empty) {
+        const raw = source.slice(ev.valueStart, ev.valueEnd);
+        if (raw !== node.text) {
+          // Align the decoded text with its source greedily: each character is
+          // found at or after the previous one's place (folding drops line
+          // breaks and indentation, escapes spell a character in several).
+          const map: number[] = [];
+          let j = 0;
+          for (const ch of node.text) {
+            let k = j;
+            while (k < raw.length && raw[k] !== ch) k++;
+            if (k < raw.length) j = k;
+            map.push(ev.valueStart + j);
+            for (let u = 1; u < ch.length; u++) map.push(ev.valueStart + j);
+            if (k < raw.length) j++;
+          }
+          node.at = (i: number) => where(map[Math.min(i, map.length - 1)] ?? ev.valueStart);
+        }
+      }
       const a = anchorOf(ev);
       if (a) anchors.set(a, node);
       return node;
@@ -85,18 +132,21 @@ export function parseYaml(source: string, where: (offset: number) => Pos): YamlR
     if (ev.type === EVENT.ALIAS) {
       const name = source.slice(ev.anchorStart, ev.anchorEnd);
       const target = anchors.get(name);
-      if (!target) throw new AliasError(`unknown alias *${name}`, ev.anchorStart);
-      return target;
+      if (!target) throw new AliasError(`front matter is not valid YAML: unidentified alias "${name}"`, Math.max(0, ev.anchorStart - 1));
+      // The value is the anchor's; the place is where it is used (its key, for a mapping value).
+      const use = where(Math.max(0, ev.anchorStart - 1));
+      return (target.kind === 'scalar' ? { ...target, pos: use, aliased: true, at: undefined } : { ...target, pos: use }) as YNode;
     }
     if (ev.type === EVENT.MAPPING) {
       const node: YMap = { kind: 'map', entries: [], pos: where(ev.start) };
       const a = anchorOf(ev);
       for (let e = next(); e && e.type !== EVENT.POP; e = next()) {
         const keyNode = readNode(e);
+        if (keyNode.kind !== 'scalar') throw new AliasError('front matter is not valid YAML: a mapping key must be a plain name, not a list or a mapping', lineStart(offsetOf(e)));
         const valueEvent = next();
         if (!valueEvent) break;
         const value = readNode(valueEvent, keyNode.pos);
-        const key = keyNode.kind === 'scalar' ? keyNode.text : `[${keyNode.kind}]`;
+        const key = keyNode.text;
         node.entries.push({ key, keyPos: keyNode.pos, value });
       }
       if (a) anchors.set(a, node);
@@ -118,7 +168,7 @@ export function parseYaml(source: string, where: (offset: number) => Pos): YamlR
       if (e.type === EVENT.DOCUMENT) {
         const content = next();
         if (content && content.type !== EVENT.POP) {
-          if (root) return { ok: false, error: { message: 'front matter holds more than one YAML document', pos: where(0) } };
+          if (root) return { ok: false, error: { message: 'front matter holds more than one YAML document', pos: where(offsetOf(content)) } };
           root = readNode(content);
           next(); // the document's POP
         }
@@ -143,7 +193,9 @@ class AliasError extends Error {
 function yamlError(err: unknown, where: (offset: number) => Pos, source: string): YamlError {
   const e = err as { reason?: string; message?: string; mark?: { position?: number } };
   const reason = e.reason ?? e.message ?? String(err);
-  const offset = e.mark && typeof e.mark.position === 'number' ? e.mark.position : 0;
+  let offset = e.mark && typeof e.mark.position === 'number' ? e.mark.position : 0;
+  // For an alias, point at its `*`, not at the name after it.
+  if (source[offset - 1] === '*') offset -= 1;
   if (reason.includes('multiline key')) {
     // YAML notices a line without its colon only on the next line: point at the line itself.
     const before = source.slice(0, source.lastIndexOf('\n', offset - 1) + 1 || 0).replace(/\s+$/, '');
