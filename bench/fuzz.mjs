@@ -8,6 +8,7 @@
 //                                                     re-run one document, print it and its findings
 //   --reports K                                       also render the text, JSON and reviewer reports
 //                                                     of every K-th document (default 10; 1: all)
+//   --hang-ms T                                       a document still running after T ms is a hang
 //   node --import tsx bench/fuzz.mjs --scaling        time of one check of inputs built to be slow, at
 //                                                     doubling sizes (far below the 5 MB limit): a time
 //                                                     that grows ×4 per doubling is quadratic
@@ -21,19 +22,23 @@
 // Document i of seed S is the same on every machine, so a failure is
 // reproduced by `--seed S --index I`.
 //
-// A failure is an exception from checkText or a report writer, or a finding
-// that is not well formed (test/fuzz/support.ts: findingProblems). Failures
-// are grouped by what went wrong; each group shows its first documents with
-// their seed, index and input. Exit status 1 on any failure.
+// A failure is an exception from checkText or a report writer, a finding
+// that is not well formed (test/fuzz/support.ts: findingProblems), or a
+// document that does not finish: the documents run in a worker thread, and
+// one that takes longer than --hang-ms (default 20000) is recorded as a hang
+// and the run goes on in a fresh worker. Failures are grouped by what went
+// wrong; each group shows its first documents with their seed, index and
+// input. Exit status 1 on any failure.
 
 import { writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
+import { Worker, isMainThread, parentPort, workerData } from 'node:worker_threads';
 import { checkText } from '../src/check.ts';
 import { DEMO_SPECS, applyMutation, findingProblems, randomGarbage, randomMutation, randomSpec, reportProblems, rng } from '../test/fuzz/support.ts';
 
 function parseArgs(argv) {
-  const o = { count: 100000, seed: 1, index: undefined, reports: 10, scaling: false };
+  const o = { count: 100000, seed: 1, index: undefined, reports: 10, scaling: false, hangMs: 20000 };
   const args = [...argv];
   while (args.length) {
     const a = args.shift();
@@ -47,6 +52,7 @@ function parseArgs(argv) {
     else if (a === '--index') o.index = num(a);
     else if (a === '--reports') o.reports = Math.max(1, num(a));
     else if (a === '--scaling') o.scaling = true;
+    else if (a === '--hang-ms') o.hangMs = Math.max(100, num(a));
     else if (/^\d+$/.test(a)) o.count = Number(a);
     else throw new Error(`unknown argument '${a}'`);
   }
@@ -124,7 +130,7 @@ function show(text, limit = 4000) {
 
 const o = parseArgs(process.argv.slice(2));
 
-if (o.scaling) {
+if (isMainThread && o.scaling) {
   // A clean spec, then a body (or a front-matter value) that grows.
   const head = '---\npolecheck: 1\ntopology: single-stage\nparams:\n  gm: 800 µS\n  rout: 8 MΩ\n  cout: 150 fF\nclaims:\n  gbw: 849 MHz\n---\n\n';
   const table = '| Parameter | Typ |\n|---|---|\n| GBW | 849 MHz |\n\n';
@@ -158,7 +164,7 @@ if (o.scaling) {
   process.exit(0);
 }
 
-if (o.index !== undefined) {
+if (isMainThread && o.index !== undefined) {
   const doc = documentAt(o.seed, o.index);
   console.log(`document ${o.index} of seed ${o.seed}: ${doc.kind} (${doc.source})`);
   if (doc.mutations.length) console.log(`mutations: ${JSON.stringify(doc.mutations)}`);
@@ -179,35 +185,40 @@ if (o.index !== undefined) {
   process.exit(problems.length ? 1 : 0);
 }
 
-// Warm-up: module loading and the first JIT tiers are not counted.
-for (const d of DEMO_SPECS) checkText(d.name, d.text);
-
-const groups = new Map();
-const byKind = new Map();
-const slowest = [];
-let failed = 0;
-let findings = 0;
-let skipped = 0;
-const t0 = performance.now();
-let lastReport = t0;
-for (let i = 0; i < o.count; i++) {
-  const doc = documentAt(o.seed, i);
-  const { ms, problems, result } = runOne(doc, i % o.reports === 0);
-  const k = byKind.get(doc.kind) ?? { n: 0, ms: 0 };
-  k.n++;
-  k.ms += ms;
-  byKind.set(doc.kind, k);
-  if (result) {
-    findings += result.findings.length;
-    if (result.skipped) skipped++;
+if (!isMainThread) {
+  // The worker: documents from..count, one message before and one after each.
+  const { seed, from, count, reports } = workerData;
+  for (const d of DEMO_SPECS) checkText(d.name, d.text); // warm-up: loading and the first JIT tiers are not counted
+  for (let i = from; i < count; i++) {
+    const doc = documentAt(seed, i);
+    parentPort.postMessage({ type: 'start', i });
+    const { ms, problems, result } = runOne(doc, i % reports === 0);
+    parentPort.postMessage({
+      type: 'done',
+      i,
+      kind: doc.kind,
+      ms,
+      length: doc.text.length,
+      findings: result ? result.findings.length : 0,
+      skipped: result ? result.skipped : false,
+      problems,
+    });
   }
-  slowest.push({ ms, i, kind: doc.kind, length: doc.text.length });
-  if (slowest.length > 40) {
-    slowest.sort((a, b) => b.ms - a.ms);
-    slowest.length = 10;
-  }
-  if (problems.length) {
+  parentPort.postMessage({ type: 'end' });
+} else {
+  const groups = new Map();
+  const byKind = new Map();
+  const slowest = [];
+  let failed = 0;
+  let findings = 0;
+  let skipped = 0;
+  let done = 0;
+  let workers = 0;
+  const t0 = performance.now();
+  let lastReport = t0;
+  const fail = (i, problems) => {
     failed++;
+    const doc = documentAt(o.seed, i);
     for (const p of new Set(problems.map(signature))) {
       const g = groups.get(p) ?? { count: 0, kinds: {}, examples: [] };
       g.count++;
@@ -215,37 +226,92 @@ for (let i = 0; i < o.count; i++) {
       if (g.examples.length < 3) g.examples.push({ i, doc, problem: problems.find((x) => signature(x) === p) });
       groups.set(p, g);
     }
-  }
-  const now = performance.now();
-  if (now - lastReport > 30000) {
-    lastReport = now;
-    console.error(`… ${i + 1}/${o.count} documents, ${((now - t0) / 1000).toFixed(0)} s, ${failed} failing`);
-  }
-}
-const seconds = (performance.now() - t0) / 1000;
-slowest.sort((a, b) => b.ms - a.ms);
+  };
+  await new Promise((resolveRun) => {
+    const start = (from) => {
+      if (from >= o.count) return resolveRun();
+      workers++;
+      const w = new Worker(new URL(import.meta.url), { workerData: { seed: o.seed, from, count: o.count, reports: o.reports } });
+      let current = { i: from, since: performance.now(), running: false };
+      let over = false;
+      const watchdog = setInterval(() => {
+        if (!over && current.running && performance.now() - current.since > o.hangMs) {
+          over = true;
+          clearInterval(watchdog);
+          const i = current.i;
+          done++;
+          const k = byKind.get(documentAt(o.seed, i).kind) ?? { n: 0, ms: 0 };
+          k.n++;
+          byKind.set(documentAt(o.seed, i).kind, k);
+          fail(i, [`does not finish: still running after ${o.hangMs} ms`]);
+          w.terminate().then(() => start(i + 1));
+        }
+      }, 250);
+      w.on('message', (m) => {
+        if (m.type === 'start') current = { i: m.i, since: performance.now(), running: true };
+        else if (m.type === 'done') {
+          current.running = false;
+          done++;
+          const k = byKind.get(m.kind) ?? { n: 0, ms: 0 };
+          k.n++;
+          k.ms += m.ms;
+          byKind.set(m.kind, k);
+          findings += m.findings;
+          if (m.skipped) skipped++;
+          slowest.push({ ms: m.ms, i: m.i, kind: m.kind, length: m.length });
+          if (slowest.length > 40) {
+            slowest.sort((a, b) => b.ms - a.ms);
+            slowest.length = 10;
+          }
+          if (m.problems.length) fail(m.i, m.problems);
+          const now = performance.now();
+          if (now - lastReport > 30000) {
+            lastReport = now;
+            console.error(`… ${done}/${o.count} documents, ${((now - t0) / 1000).toFixed(0)} s, ${failed} failing`);
+          }
+        } else if (m.type === 'end' && !over) {
+          over = true;
+          clearInterval(watchdog);
+          w.terminate().then(() => resolveRun());
+        }
+      });
+      w.on('error', (err) => {
+        if (over) return;
+        over = true;
+        clearInterval(watchdog);
+        // The worker died (out of memory, a stack overflow outside checkText): the document it was on fails.
+        done++;
+        fail(current.i, [`the worker died: ${firstLines(err)}`]);
+        start(current.i + 1);
+      });
+    };
+    start(0);
+  });
+  const seconds = (performance.now() - t0) / 1000;
+  slowest.sort((a, b) => b.ms - a.ms);
 
-console.log(`polecheck fuzz run: seed ${o.seed}, ${o.count} documents`);
-console.log(`  time ${seconds.toFixed(1)} s, ${(o.count / seconds).toFixed(0)} documents/s`);
-console.log(`  ${o.count - skipped} read as specs, ${skipped} skipped as pages, ${findings} findings; reports rendered for every ${o.reports === 1 ? '' : `${o.reports}th `}document`);
-for (const [kind, k] of byKind) console.log(`  ${kind.padEnd(13)} ${String(k.n).padStart(7)} documents, mean ${(k.ms / k.n).toFixed(2)} ms`);
-console.log(`  slowest: ${slowest.slice(0, 5).map((s) => `#${s.i} ${s.kind} ${s.ms.toFixed(0)} ms (${s.length} chars)`).join('; ')}`);
-console.log(`  failing documents: ${failed}`);
+  console.log(`polecheck fuzz run: seed ${o.seed}, ${done} documents${workers > 1 ? ` (${workers - 1} hung or crashed: restarted the worker)` : ''}`);
+  console.log(`  time ${seconds.toFixed(1)} s, ${(done / seconds).toFixed(0)} documents/s`);
+  console.log(`  ${done - skipped} read as specs, ${skipped} skipped as pages, ${findings} findings; reports rendered for every ${o.reports === 1 ? '' : `${o.reports}th `}document`);
+  for (const [kind, k] of byKind) console.log(`  ${kind.padEnd(13)} ${String(k.n).padStart(7)} documents, mean ${(k.ms / k.n).toFixed(2)} ms (hangs excluded)`);
+  console.log(`  slowest: ${slowest.slice(0, 5).map((x) => `#${x.i} ${x.kind} ${x.ms.toFixed(0)} ms (${x.length} chars)`).join('; ')}`);
+  console.log(`  failing documents: ${failed}`);
 
-if (groups.size) {
-  const dump = join(tmpdir(), `polecheck-fuzz-${o.seed}-${process.pid}.json`);
-  const all = [...groups].sort((a, b) => b[1].count - a[1].count);
-  writeFileSync(dump, JSON.stringify(all.map(([sig, g]) => ({ signature: sig, count: g.count, examples: g.examples.map((e) => ({ seed: o.seed, index: e.i, kind: e.doc.kind, source: e.doc.source, mutations: e.doc.mutations, problem: e.problem, input: e.doc.text })) })), null, 2));
-  console.log(`\n${groups.size} kinds of failure (all inputs in ${dump}):`);
-  for (const [sig, g] of all) {
-    console.log(`\n✗ ${g.count} × ${sig}`);
-    console.log(`  (${Object.entries(g.kinds).map(([k, n]) => `${n} ${k}`).join(', ')})`);
-    for (const e of g.examples) {
-      console.log(`  seed ${o.seed} index ${e.i} (${e.doc.kind}, ${e.doc.source}) — reproduce: node --import tsx bench/fuzz.mjs --seed ${o.seed} --index ${e.i}`);
-      console.log(`    ${e.problem}`);
-      if (e.doc.mutations.length) console.log(`    mutations: ${JSON.stringify(e.doc.mutations)}`);
-      console.log(`    input: ${show(e.doc.text, 1500)}`);
+  if (groups.size) {
+    const dump = join(tmpdir(), `polecheck-fuzz-${o.seed}-${process.pid}.json`);
+    const all = [...groups].sort((a, b) => b[1].count - a[1].count);
+    writeFileSync(dump, JSON.stringify(all.map(([sig, g]) => ({ signature: sig, count: g.count, kinds: g.kinds, examples: g.examples.map((e) => ({ seed: o.seed, index: e.i, kind: e.doc.kind, source: e.doc.source, mutations: e.doc.mutations, problem: e.problem, input: e.doc.text })) })), null, 2));
+    console.log(`\n${groups.size} kinds of failure (all inputs in ${dump}):`);
+    for (const [sig, g] of all) {
+      console.log(`\n✗ ${g.count} × ${sig}`);
+      console.log(`  (${Object.entries(g.kinds).map(([k, n]) => `${n} ${k}`).join(', ')})`);
+      for (const e of g.examples) {
+        console.log(`  seed ${o.seed} index ${e.i} (${e.doc.kind}, ${e.doc.source}) — reproduce: node --import tsx bench/fuzz.mjs --seed ${o.seed} --index ${e.i}`);
+        console.log(`    ${e.problem}`);
+        if (e.doc.mutations.length) console.log(`    mutations: ${JSON.stringify(e.doc.mutations)}`);
+        console.log(`    input: ${show(e.doc.text, 1500)}`);
+      }
     }
   }
+  process.exit(failed ? 1 : 0);
 }
-process.exit(failed ? 1 : 0);
