@@ -34,8 +34,11 @@ import { writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { Worker, isMainThread, parentPort, workerData } from 'node:worker_threads';
-import { checkText } from '../src/check.ts';
-import { DEMO_SPECS, applyMutation, findingProblems, randomGarbage, randomMutation, randomSpec, reportProblems, rng } from '../test/fuzz/support.ts';
+
+// Loader hooks are per thread: the worker registers tsx itself before it loads the TypeScript sources.
+if (!isMainThread) await (await import('tsx/esm/api')).register();
+const { checkText } = await import('../src/check.ts');
+const { DEMO_SPECS, applyMutation, findingProblems, randomGarbage, randomMutation, randomSpec, reportProblems, rng } = await import('../test/fuzz/support.ts');
 
 function parseArgs(argv) {
   const o = { count: 100000, seed: 1, index: undefined, reports: 10, scaling: false, hangMs: 20000 };
@@ -279,6 +282,11 @@ if (!isMainThread) {
         if (over) return;
         over = true;
         clearInterval(watchdog);
+        if (!current.running) {
+          // Died before its first document: nothing to blame on a document, and a fresh worker would die too.
+          console.error(`polecheck fuzz: the worker could not start: ${err?.stack ?? err}`);
+          process.exit(2);
+        }
         // The worker died (out of memory, a stack overflow outside checkText): the document it was on fails.
         done++;
         fail(current.i, [`the worker died: ${firstLines(err)}`]);

@@ -32,19 +32,23 @@ const rule: Rule = {
     const where = (c: ClaimEntry) => (c.source === 'table' ? `the table row \`${c.label}\`` : 'the front matter');
     const stated = (c: ClaimEntry) => [c.typ && c.typ.quantity.written.text, c.min && `≥ ${c.min.quantity.written.text}`, c.max && `≤ ${c.max.quantity.written.text}`].filter(Boolean).join(', ');
     const out: Draft[] = [];
-    const claims = ctx.spec.claims;
-    const reported = new Set<number>();
-    for (let j = 0; j < claims.length; j++) {
-      for (let i = 0; i < j; i++) {
+    // Group by claim and operating point first: only statements in one group can conflict.
+    const groups = new Map<string, ClaimEntry[]>();
+    for (const c of ctx.spec.claims) {
+      const k = `${c.key}|${point(c)}`;
+      const g = groups.get(k);
+      if (g) g.push(c);
+      else groups.set(k, [c]);
+    }
+    for (const claims of groups.values()) {
+      // Each statement is reported once, against the first earlier one it contradicts.
+      const bands = claims.map(interval);
+      for (let j = 1; j < claims.length; j++) {
+        const [blo, bhi] = bands[j];
+        const i = bands.slice(0, j).findIndex(([alo, ahi]) => Math.max(alo, blo) > Math.min(ahi, bhi));
+        if (i < 0) continue;
         const a = claims[i];
         const b = claims[j];
-        if (a.key !== b.key || point(a) !== point(b)) continue;
-        const [alo, ahi] = interval(a);
-        const [blo, bhi] = interval(b);
-        if (Math.max(alo, blo) <= Math.min(ahi, bhi)) continue;
-        // Each statement is reported once, against the first earlier one it contradicts.
-        if (reported.has(j)) continue;
-        reported.add(j);
         const place = (c: ClaimEntry) => (c.source === 'table' ? (c.typ ?? c.min ?? c.max)!.pos : c.keyPos);
         const pos = place(b);
         const first = place(a);

@@ -35,7 +35,13 @@ export function evaluate(topology: Topology, values: Values): Model {
     throw err;
   }
   const beta = topology.beta(values);
-  const loop = analyzeLoop(analysis, beta);
+  let loop: LoopAnalysis;
+  try {
+    loop = analyzeLoop(analysis, beta);
+  } catch (err) {
+    if (err instanceof NetworkError) throw new ModelError(err.message);
+    throw err;
+  }
   const { poles, zeros } = analysis;
   const exact: Record<string, Figure> = {};
 

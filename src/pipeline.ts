@@ -44,7 +44,10 @@ export function readDocument(path: string, raw: string): ReadResult {
   // document only when its body may hold a table.
   const fence = /\n---[ \t]*(?:\n|$)/.exec(text.slice(3));
   const headEnd = fence ? 3 + fence.index + fence[0].length : text.length;
-  const bodyHasTable = text.indexOf('|', headEnd) >= 0;
+  // A GFM table needs a delimiter row (`| --- | :-: |`); without one the body
+  // holds no table and is not parsed (Markdown parsing can be superlinear in
+  // pathological text).
+  const bodyHasTable = text.indexOf('|', headEnd) >= 0 && /^[ \t]*\|?[ \t]*:?-+:?[ \t]*(\|[ \t]*:?-+:?[ \t]*)*\|?[ \t]*$/m.test(text.slice(headEnd)) && /-[ \t]*\|/.test(text.slice(headEnd));
   let tree: ReturnType<typeof processor.parse>;
   let bodyProblem: Finding | undefined;
   try {

@@ -149,6 +149,11 @@ function sweep(a: NetworkAnalysis, lo: number, hi: number, extra: number[]): Swe
   const phaseDeg: number[] = [];
   for (const x of f) {
     const r = a.at(x);
+    // A response that cannot be evaluated (round-off swamps an ill-conditioned
+    // network) has no crossings to speak of: say so instead of reporting noise.
+    if (Number.isNaN(r.magDb) || Number.isNaN(r.phaseDeg)) {
+      throw new NetworkError('the frequency response cannot be evaluated at these values: the network is too ill-conditioned for double precision');
+    }
     magDb.push(r.magDb);
     phaseDeg.push(r.phaseDeg);
   }
@@ -222,7 +227,7 @@ export interface LoopAnalysis {
 
 const fmtHz = (f: number): string => `${f.toPrecision(4)} Hz`;
 /** Two decimals without a negative zero (`-0.00`). */
-const fixed2 = (x: number): string => (Math.abs(x) < 0.005 ? '0.00' : x.toFixed(2));
+const fixed2 = (x: number): string => (!Number.isFinite(x) ? 'none: zero gain' : Math.abs(x) < 0.005 ? '0.00' : x.toFixed(2));
 
 export function analyzeLoop(a: NetworkAnalysis, beta: number): LoopAnalysis {
   const [lo0, hi0] = a.searchRange;

@@ -192,7 +192,8 @@ function balance(a: number[][], n: number): void {
         c += Math.abs(a[j][i]);
         r += Math.abs(a[i][j]);
       }
-      if (c === 0 || r === 0) continue;
+      // Non-finite sums would never leave the scaling loops below.
+      if (c === 0 || r === 0 || !Number.isFinite(c) || !Number.isFinite(r)) continue;
       let g = r / RADIX;
       let f = 1;
       const s = c + r;

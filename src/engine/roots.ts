@@ -31,6 +31,7 @@ export interface PencilRoots {
  */
 export function pencilRoots(A: Float64Array, B: Float64Array, n: number): PencilRoots {
   if (n === 0) return { roots: [], polished: true, shift: 0 };
+  if (!A.every(Number.isFinite) || !B.every(Number.isFinite)) throw new SingularPencilError('the network matrices hold values beyond double precision');
   // One shift-and-invert resolves roots within about ten decades of the
   // shift's scale; roots much farther out are lost in forming (A + σB)⁻¹B.
   // So further passes shift far beyond the largest root found so far, until
@@ -39,8 +40,13 @@ export function pencilRoots(A: Float64Array, B: Float64Array, n: number): Pencil
   let polishedAll = true;
   let firstShift = 0;
   let far = 0;
-  for (let pass = 0; pass < 5; pass++) {
-    const start = shiftInvertRoots(A, B, n, pass === 0 ? candidateShifts(A, B, n) : [-far * 1e6, far * 1.3e6]);
+  // The fastest conceivable root: the largest rate A_ii/B_ii of any node, with margin.
+  let ceiling = 0;
+  for (let i = 0; i < n; i++) if (B[i * n + i] !== 0) ceiling = Math.max(ceiling, Math.abs(A[i * n + i] / B[i * n + i]));
+  ceiling = ceiling > 0 ? ceiling * 1e6 : Infinity;
+  let shift = 0;
+  for (let pass = 0; pass < 8; pass++) {
+    const start = shiftInvertRoots(A, B, n, pass === 0 ? candidateShifts(A, B, n) : [-shift, 1.3 * shift], pass === 0);
     if (!start) {
       if (pass === 0) throw new SingularPencilError('the network matrices are singular at every trial frequency');
       break;
@@ -48,7 +54,6 @@ export function pencilRoots(A: Float64Array, B: Float64Array, n: number): Pencil
     if (pass === 0) firstShift = start.shift;
     const { roots, converged } = polish(A, B, n, start.roots, accepted);
     polishedAll &&= converged;
-    let added = 0;
     // A later pass exists to find roots beyond the largest one found so far
     // (the earlier pass resolved everything below it); what it finds again
     // below that is a poorly resolved copy. Within one pass, equal roots are a
@@ -57,21 +62,28 @@ export function pencilRoots(A: Float64Array, B: Float64Array, n: number): Pencil
       const size = Math.hypot(r.re, r.im);
       if (pass > 0 && size <= far * 1.01) continue;
       accepted.push(r);
-      added++;
     }
-    if (added === 0 || accepted.length >= n) break;
-    far = Math.max(...accepted.map((r) => Math.hypot(r.re, r.im)));
+    if (accepted.length >= n) break;
+    far = Math.max(far, ...accepted.map((r) => Math.hypot(r.re, r.im)));
+    // Shift further out each pass (a pass that found nothing still moves on),
+    // up to the fastest rate any node could have.
+    shift = Math.max(far * 1e6, shift * 1e12);
+    if (!(shift < ceiling)) break;
   }
-  return { roots: sortRoots(symmetrise(accepted)), polished: polishedAll, shift: firstShift };
+  const finite = accepted.filter((r) => Number.isFinite(r.re) && Number.isFinite(r.im));
+  return { roots: sortRoots(symmetrise(finite)), polished: polishedAll, shift: firstShift };
 }
 
 /** Eigenvalue estimates of the roots, from the first shift that makes A + σB invertible. */
-function shiftInvertRoots(A: Float64Array, B: Float64Array, n: number, shifts: number[]): { roots: Root[]; shift: number } | null {
+function shiftInvertRoots(A: Float64Array, B: Float64Array, n: number, shifts: number[], strict: boolean): { roots: Root[]; shift: number } | null {
   for (const shift of shifts) {
     const shifted = new Float64Array(n * n);
     for (let i = 0; i < n * n; i++) shifted[i] = A[i] + shift * B[i];
     const lu = realLU(shifted, n);
-    if (!lu || lu.pivotRatio < 1e-13) continue;
+    // The first pass insists on a well-conditioned shift; the far shifts of
+    // later passes scale the nodes very differently by design, so only an
+    // exact zero pivot or a non-finite result disqualifies them.
+    if (!lu || (strict && lu.pivotRatio < 1e-13)) continue;
     const M = new Float64Array(n * n);
     const col = new Float64Array(n);
     for (let j = 0; j < n; j++) {
@@ -79,6 +91,7 @@ function shiftInvertRoots(A: Float64Array, B: Float64Array, n: number, shifts: n
       const x = realSolve(lu, n, col);
       for (let i = 0; i < n; i++) M[i * n + j] = x[i];
     }
+    if (!M.every(Number.isFinite)) continue;
     const eig = eigenvalues(M, n);
     if (!eig) continue;
     let maxMu = 0;

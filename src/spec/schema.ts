@@ -27,6 +27,9 @@ class Collector {
   }
 }
 
+/** Long values are quoted by their start only: a message stays readable. */
+const clip = (text: string): string => (text.length > 80 ? `${text.slice(0, 77)}…` : text);
+
 function scalarText(node: YNode): string | undefined {
   return node.kind === 'scalar' ? node.text : undefined;
 }
@@ -46,14 +49,21 @@ function quantityAt(c: Collector, node: YNode, kind: Kind, key: string, claim: s
     // The place of the problem in the file: inside the written text, or at the
     // alias that stands for text written elsewhere.
     const at = node.aliased ? node.pos : node.at ? node.at(r.offset) : { ...node.pos, column: node.pos.column + (node.plain ? r.offset : r.offset + 1) };
-    c.error('wrong-unit', at, `\`${key}: ${node.text}\`: ${r.message}`, r.hint ? [`write \`${r.hint}\``] : [], claim);
+    c.error('wrong-unit', at, `\`${key}: ${clip(node.text)}\`: ${r.message}`, r.hint ? [`write \`${r.hint}\``] : [], claim);
     return undefined;
   }
   return { quantity: r.quantity, pos: node.pos, ...(node.span ? { span: { start: node.span[0], end: node.span[1] } } : {}) };
 }
 
+/** The span of SI values the engine computes with; beyond it products and inverses overflow. */
+export const VALUE_LIMITS: [number, number] = [1e-30, 1e30];
+
 function checkPhysical(c: Collector, spec: KeySpec, q: QuantityAt): boolean {
   const v = q.quantity.value;
+  if (v !== 0 && Number.isFinite(v) && (Math.abs(v) < VALUE_LIMITS[0] || Math.abs(v) > VALUE_LIMITS[1])) {
+    c.error('invalid-value', q.pos, `\`${spec.key}: ${q.quantity.written.text}\` is outside the range polecheck computes with (${VALUE_LIMITS[0]} to ${VALUE_LIMITS[1]} in SI units)`);
+    return false;
+  }
   if (v < 0 || (v === 0 && !spec.allowZero)) {
     c.error('invalid-value', q.pos, `\`${spec.key}\` (${spec.description}) must be ${spec.allowZero ? 'zero or positive' : 'positive'}; got \`${q.quantity.written.text}\``);
     return false;
@@ -130,7 +140,7 @@ function readValue(c: Collector, e: YEntry, spec: KeySpec): ValueEntry | undefin
     const tol = parseTolerance(v.text, spec.kind);
     if (tol) {
       if (!tol.ok) {
-        c.error('wrong-unit', { ...v.pos, column: v.pos.column + tol.offset }, `\`${e.key}: ${v.text}\`: ${tol.message}`);
+        c.error('wrong-unit', v.at ? v.at(tol.offset) : { ...v.pos, column: v.pos.column + tol.offset }, `\`${e.key}: ${v.text}\`: ${tol.message}`);
         return undefined;
       }
       const at = (quantity: typeof tol.typ): QuantityAt => ({ quantity, pos: v.pos });

@@ -120,7 +120,9 @@ function readConditions(cell: Cell, topology: Topology, out: Finding[]): RowCond
     offset += part.length + 1;
     const item = part.trim();
     if (!item) continue;
-    const eq = item.match(/^([^=]+?)\s*=\s*(.+)$/);
+    // indexOf, not a backtracking pattern: a cell may be very long.
+    const at_ = item.indexOf('=');
+    const eq = at_ > 0 && item.slice(at_ + 1).trim() ? [item, item.slice(0, at_).trim(), item.slice(at_ + 1).trim()] : null;
     if (!eq) {
       out.push(finding('table', 'info', at, `condition \`${item}\` is not of the form \`NAME = VALUE\`; ignored`));
       continue;
@@ -162,7 +164,8 @@ function readBound(cell: Cell | undefined, unitCell: Cell | undefined, kind: Kin
   if (!cell || EMPTY.has(cell.text.toLowerCase())) return undefined;
   const unit = unitCell && !EMPTY.has(unitCell.text.toLowerCase()) ? unitCell.text : '';
   // The unit column applies to cells that carry only a number.
-  const bare = /^[+\-\u2212]?(\d+\.?\d*|\.\d+)([eE][+\-\u2212]?\d+)?$/.test(cell.text);
+  // Only a short cell can be a bare number; the pattern is not run on long text.
+  const bare = cell.text.length <= 40 && /^[+\-\u2212]?(\d+\.?\d*|\.\d+)([eE][+\-\u2212]?\d+)?$/.test(cell.text);
   const textWithUnit = bare && unit ? `${cell.text}${unit === '°' || unit === '%' ? '' : ' '}${unit}` : cell.text;
   const q = parseQuantity(textWithUnit, kind);
   if (!q.ok) {

@@ -393,6 +393,8 @@ describe('values that are not a number and a unit', () => {
     ['a folded block scalar', edit(6, '  gm: >-', '    800 µS', '    foo'), { rule: 'wrong-unit', severity: 'error', line: 8, column: 5, message: 'unexpected `foo` after `800 µS`' }],
     ['a double-quoted value with escapes', edit(6, '  gm: "\\x38\\x30\\x30 µS foo"'), { rule: 'wrong-unit', severity: 'error', line: 6, column: 24, message: 'unexpected `foo` after `800 µS`' }],
     ["a single-quoted value with ''", edit(6, "  gm: '800 µS ''x'' foo'"), { rule: 'wrong-unit', severity: 'error', line: 6, column: 15, message: "unexpected `'x'` after `800 µS`" }],
+    ['a tolerance folded onto the next line, garbage before it', edit(6, '  gm: 800 µS', '   foo ±10%'), { rule: 'wrong-unit', severity: 'error', line: 7, column: 4, message: 'unexpected `foo` after `800 µS`' }],
+    ['a tolerance folded onto the next line, not a percentage', edit(6, '  gm: 800 µS', '   ±10 V'), { rule: 'wrong-unit', severity: 'error', line: 7, column: 8, message: 'a tolerance must be a percentage' }],
   ];
   it.each(inside)('%s: the finding is where the text is', (_name, text, e) => expectOnly(check(text), e));
 

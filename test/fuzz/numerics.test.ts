@@ -123,6 +123,27 @@ describe('values across 1e-18…1e18, one at a time, in every demo design', () =
   });
 });
 
+describe('poles many decades apart are all found', () => {
+  // Single-stage OTA with a mirror: the mirror node is driven but drives nothing back, so the poles are
+  // exactly ωo = 1/(rout·(cout + cl)) and ωm = gm_mirror/c_mirror, and the zero is −2·ωm (by hand:
+  // A = gm·rout·[½ + ½/(1 + s/ωm)]/(1 + s/ωo)). Far above ωm the mirrored half is gone:
+  // |A| = ½·gm·rout/|1 + jω/ωo|, so GBW = ωo·√((½·gm·rout)² − 1)/2π.
+  const v = { gm: 800e-6, rout: 8e6, cout: 150e-15, gm_mirror: 1.5e-3, cl: 3e-12, beta: 1 };
+  const wo = 1 / (8e6 * 3.15e-12);
+  it.each([1e-18, 1e-6, 1e3, 1e12, 1e15, 1e18])('c_mirror = %s F', (cm) => {
+    const m = evaluate(ss, { ...v, c_mirror: cm });
+    const wm = 1.5e-3 / cm;
+    const mags = m.analysis.poles.map((p) => Math.hypot(p.re, p.im));
+    expect(mags).toHaveLength(2);
+    const want = [wo, wm].sort((a, b) => a - b);
+    expect(rel(mags[0], want[0])).toBeLessThan(1e-9);
+    expect(rel(mags[1], want[1])).toBeLessThan(1e-9);
+    expect(m.analysis.zeros).toHaveLength(1);
+    expect(rel(m.analysis.zeros[0].re, -2 * wm)).toBeLessThan(1e-9);
+    if (wm < 1e-6 * wo) expect(rel(m.exact.gbw.value!, (wo * Math.sqrt((0.5 * 800e-6 * 8e6) ** 2 - 1)) / TWO_PI)).toBeLessThan(1e-6);
+  });
+});
+
 describe('singular and nearly singular networks', () => {
   const net = (elements: string[]) =>
     ['---', 'polecheck: 1', 'topology: network', 'network:', '  input: in', '  output: out', '  nodes: [in, n1, out]', '  elements:', ...elements.map((e) => `    ${e}`), 'claims:', '  dc_gain: 80 dB', '---', ''].join('\n');
@@ -350,6 +371,25 @@ describe('claims at the ends of the double range', () => {
   });
 });
 
+describe('params at the ends of the double range', () => {
+  // Far outside any design, but a document may say it: the check must still come back clean of NaN and
+  // Infinity. (`c_mirror: 1e308 F` on a single-stage OTA is left out: today it never returns — see the
+  // long fuzz run, bench/fuzz.mjs, which records it as a hang.)
+  const demo = (name: string) => DEMO_SPECS.find((d) => d.name === name)!.text;
+  const cases: Array<[string, string, RegExp, string]> = [
+    ['vcm-buffer, cl: 1e308 pF', 'vcm-buffer.md', /^ {2}cl: .*$/m, '  cl: 1e308 pF'],
+    ['vcm-buffer, cc: 1e308 pF', 'vcm-buffer.md', /^ {2}cc: .*$/m, '  cc: 1e308 pF'],
+    ['mux-gain-stage, cgd: 1e308 F', 'mux-gain-stage.md', /^ {2}cgd: .*$/m, '  cgd: 1e308 F'],
+    ['ref-buffer, r2: 1e308 Ω', 'ref-buffer.md', /^ {2}r2: .*$/m, '  r2: 1e308 Ω'],
+    ['ref-buffer, gm1: 1e-300 S', 'ref-buffer.md', /^ {2}gm1: .*$/m, '  gm1: 1e-300 S'],
+  ];
+  it.each(cases)('%s', (_name, file, line, replacement) => {
+    const text = demo(file).replace(line, replacement);
+    expect(text).toContain(replacement);
+    checked(text, file);
+  });
+});
+
 describe('impedance scaling leaves every figure unchanged (two-stage-miller, fast-check)', () => {
   const lu = (lo: number, hi: number) => fc.double({ min: Math.log10(lo), max: Math.log10(hi), noNaN: true }).map((e) => 10 ** e);
   const design = fc
@@ -371,7 +411,11 @@ describe('impedance scaling leaves every figure unchanged (two-stage-miller, fas
     .filter((d) => d.rz === 0 || Math.abs(d.rz * d.gm2 - 1) > 1e-3);
   const k = fc.oneof(lu(1e-6, 1e6), fc.constantFrom(1e-6, 1e6, 7.3));
   const FIGURES = ['dc_gain', 'gbw', 'bandwidth', 'p1', 'p2', 'rhp_zero', 'phase_margin', 'gain_margin', 'slew_rate'];
-  const close = (a: number, b: number) => a === b || Math.abs(a - b) <= 1e-9 * Math.max(Math.abs(a), Math.abs(b));
+  // Frequencies and rates to 1e-9 relative. Gains in dB and angles can sit at 0, where a relative test
+  // means nothing: a ratio equal to 1e-9 relative is 20·log10(1 + 1e-9) ≈ 8.7e-9 dB apart, and an angle
+  // is compared to 1e-7° (1.7e-9 rad) besides 1e-9 relative.
+  const ABSOLUTE: Record<string, number> = { dc_gain: 8.7e-9, gain_margin: 8.7e-9, phase_margin: 1e-7 };
+  const close = (a: number, b: number, f = '') => a === b || Math.abs(a - b) <= 1e-9 * Math.max(Math.abs(a), Math.abs(b)) || Math.abs(a - b) <= (ABSOLUTE[f] ?? 0);
   const scaled = (v: Values, k: number): Values => {
     const s: Values = { ...v, gm1: v.gm1 / k, gm2: v.gm2 / k, r1: v.r1 * k, r2: v.r2 * k, rz: v.rz * k, c1: v.c1 / k, c2: v.c2 / k, cc: v.cc / k, cl: v.cl / k, i1: v.i1 / k, i2: v.i2 / k };
     if (v.rl !== undefined) s.rl = v.rl * k;
@@ -382,7 +426,7 @@ describe('impedance scaling leaves every figure unchanged (two-stage-miller, fas
       const x = a.exact[f].value;
       const y = b.exact[f].value;
       expect(y === null, `${f}: ${x} vs ${y}`).toBe(x === null);
-      if (x !== null && y !== null) expect(close(x, y), `${f}: ${x} vs ${y}`).toBe(true);
+      if (x !== null && y !== null) expect(close(x, y, f), `${f}: ${x} vs ${y}`).toBe(true);
     }
   };
 
@@ -403,7 +447,7 @@ describe('impedance scaling leaves every figure unchanged (two-stage-miller, fas
           const x = a.exact[f].value;
           const y = b.exact[f].value;
           expect(y === null, `${f}: ${x} vs ${y}`).toBe(x === null);
-          if (x !== null && y !== null) expect(close(x, y), `${f}: ${x} vs ${y} (k = ${k})`).toBe(true);
+          if (x !== null && y !== null) expect(close(x, y, f), `${f}: ${x} vs ${y} (k = ${k})`).toBe(true);
         }
         for (const side of ['poles', 'zeros'] as const) {
           const pa = a.analysis[side];
