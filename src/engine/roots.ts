@@ -129,34 +129,17 @@ function polish(A: Float64Array, B: Float64Array, n: number, start: Root[], fixe
   const done = roots.map(() => false);
   const rejected = roots.map(() => false);
   const lastStep = roots.map(() => Infinity);
-  const re = new Float64Array(n * n);
-  const im = new Float64Array(n * n);
-  const br = new Float64Array(n);
-  const zero = new Float64Array(n);
-  const xr = new Float64Array(n);
-  const xi = new Float64Array(n);
+  const work = workspace(n);
   for (let iter = 0; iter < 40 && done.some((d) => !d); iter++) {
     for (let k = 0; k < roots.length; k++) {
       if (done[k]) continue;
       const s = roots[k];
-      for (let i = 0; i < n * n; i++) {
-        re[i] = A[i] + s.re * B[i];
-        im[i] = s.im * B[i];
-      }
-      const lu = complexLU(re, im, n);
-      if (lu.pivotRatio < 1e-300) {
+      const d = logDerivative(A, B, n, s, work);
+      if (!d) {
         done[k] = true; // landed on the root exactly
         continue;
       }
-      // tr((A + sB)⁻¹ B)
-      let tr = 0;
-      let ti = 0;
-      for (let j = 0; j < n; j++) {
-        for (let i = 0; i < n; i++) br[i] = B[i * n + j];
-        complexSolve(lu, br, zero, xr, xi);
-        tr += xr[j];
-        ti += xi[j];
-      }
+      let [tr, ti] = d;
       // Aberth: subtract the other roots' share of the logarithmic derivative.
       for (let j = 0; j < roots.length + fixed.length; j++) {
         if (j === k) continue;
@@ -198,32 +181,51 @@ function polish(A: Float64Array, B: Float64Array, n: number, start: Root[], fixe
   // or one far out where A + sB ≈ sB, fails it.
   for (let k = 0; k < roots.length; k++) {
     if (rejected[k]) continue;
-    const step = newtonStep(A, B, n, roots[k], re, im, br, zero, xr, xi);
-    if (step === null) continue; // exactly singular: a root
+    const d = logDerivative(A, B, n, roots[k], work);
+    if (!d) continue; // exactly singular: a root
+    const t = Math.hypot(d[0], d[1]);
+    const step = t === 0 ? Infinity : 1 / t;
     if (step > 1e-6 * Math.hypot(roots[k].re, roots[k].im)) rejected[k] = true;
   }
   // Iterations that ran out before converging are reported as not polished.
   return { roots: roots.filter((_, k) => !rejected[k]), converged: done.every((d) => d) };
 }
 
-/** |1/tr((A + sB)⁻¹B)|, the size of a plain Newton step on det(A + sB); null at an exact root. */
-function newtonStep(A: Float64Array, B: Float64Array, n: number, s: Root, re: Float64Array, im: Float64Array, br: Float64Array, zero: Float64Array, xr: Float64Array, xi: Float64Array): number | null {
+interface Workspace {
+  re: Float64Array;
+  im: Float64Array;
+  br: Float64Array;
+  zero: Float64Array;
+  xr: Float64Array;
+  xi: Float64Array;
+}
+
+const workspace = (n: number): Workspace => ({
+  re: new Float64Array(n * n),
+  im: new Float64Array(n * n),
+  br: new Float64Array(n),
+  zero: new Float64Array(n),
+  xr: new Float64Array(n),
+  xi: new Float64Array(n),
+});
+
+/** d/ds ln det(A + sB) = tr((A + sB)⁻¹B) at s, as [re, im]; null where A + sB is exactly singular (a root). */
+function logDerivative(A: Float64Array, B: Float64Array, n: number, s: Root, w: Workspace): [number, number] | null {
   for (let i = 0; i < n * n; i++) {
-    re[i] = A[i] + s.re * B[i];
-    im[i] = s.im * B[i];
+    w.re[i] = A[i] + s.re * B[i];
+    w.im[i] = s.im * B[i];
   }
-  const lu = complexLU(re, im, n);
+  const lu = complexLU(w.re, w.im, n);
   if (lu.pivotRatio < 1e-300) return null;
   let tr = 0;
   let ti = 0;
   for (let j = 0; j < n; j++) {
-    for (let i = 0; i < n; i++) br[i] = B[i * n + j];
-    complexSolve(lu, br, zero, xr, xi);
-    tr += xr[j];
-    ti += xi[j];
+    for (let i = 0; i < n; i++) w.br[i] = B[i * n + j];
+    complexSolve(lu, w.br, w.zero, w.xr, w.xi);
+    tr += w.xr[j];
+    ti += w.xi[j];
   }
-  const t = Math.hypot(tr, ti);
-  return t === 0 ? Infinity : 1 / t;
+  return [tr, ti];
 }
 
 function symmetrise(roots: Root[]): Root[] {
