@@ -2,12 +2,11 @@
 // for 60 seeded random two-stage Miller designs plus hand-picked edge cases.
 // Run: npx tsx test/reference/generate.ts
 
-import { spawnSync } from 'node:child_process';
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { randomTwoStageDesigns, type TwoStageDesign } from './designs';
-import { ngspiceVersion, runTwoStage, sweepFor, type NgspiceResult } from './ngspice';
+import { debianPackageVersion, ngspiceVersion, runTwoStage, sweepFor, type NgspiceResult } from './ngspice';
 
 export const SEED = 20261201;
 export const RANDOM_COUNT = 60;
@@ -59,12 +58,6 @@ export interface FixtureFile {
   seed: number;
   generated: string;
   designs: { design: TwoStageDesign; ngspice: NgspiceResult }[];
-}
-
-/** Debian package version, when ngspice came from apt (recorded next to the upstream version). */
-function debianPackageVersion(): string | null {
-  const r = spawnSync('dpkg-query', ['-W', '-f=${Version}', 'ngspice'], { encoding: 'utf8', timeout: 5000 });
-  return r.status === 0 && r.stdout.trim() !== '' ? r.stdout.trim() : null;
 }
 
 function main(): void {

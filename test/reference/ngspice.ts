@@ -261,7 +261,7 @@ export function sweepFor(d: TwoStageDesign, acPointsPerDecade = DEFAULT_POINTS_P
 }
 
 /** log-domain value of Π(1 − s/r) at s = jω: [ln|·|, arg]. */
-function logFactor(roots: Complex[], w: number): [number, number] {
+export function logFactor(roots: Complex[], w: number): [number, number] {
   let lm = 0;
   let ar = 0;
   for (const r of roots) {
@@ -404,4 +404,10 @@ export function runTwoStage(d: TwoStageDesign, opts: { acPointsPerDecade?: numbe
   };
   if (notes.length > 0) result.pzNote = notes.join('; ');
   return result;
+}
+
+/** Debian package version, when ngspice came from apt (recorded next to the upstream version). */
+export function debianPackageVersion(): string | null {
+  const r = spawnSync('dpkg-query', ['-W', '-f=${Version}', 'ngspice'], { encoding: 'utf8', timeout: 5000 });
+  return r.status === 0 && r.stdout.trim() !== '' ? r.stdout.trim() : null;
 }

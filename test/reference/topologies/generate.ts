@@ -3,11 +3,10 @@
 // and the three-stage nested-Miller amplifier, plus hand-picked edge cases.
 // Run: npx tsx test/reference/topologies/generate.ts
 
-import { spawnSync } from 'node:child_process';
 import { mkdirSync, writeFileSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
-import { ngspiceVersion } from '../ngspice';
+import { debianPackageVersion, ngspiceVersion } from '../ngspice';
 import {
   randomCommonSourceDesigns,
   randomSingleStageDesigns,
@@ -129,11 +128,6 @@ export function allDesigns(): { [K in TopologyId]: TopologiesFixture['topologies
       ...EDGE_DESIGNS['three-stage-nested-miller'],
     ],
   };
-}
-
-function debianPackageVersion(): string | null {
-  const r = spawnSync('dpkg-query', ['-W', '-f=${Version}', 'ngspice'], { encoding: 'utf8', timeout: 5000 });
-  return r.status === 0 && r.stdout.trim() !== '' ? r.stdout.trim() : null;
 }
 
 function main(): void {

@@ -19,6 +19,7 @@
 import { MARK, type AcSweep } from '../netlist';
 import {
   firstFall,
+  logFactor,
   parseAc,
   parsePz,
   parseScalars,
@@ -111,19 +112,6 @@ function complexScalar(s: string | undefined, what: string): Complex {
 
 const mag = (r: Complex) => Math.hypot(r.re, r.im);
 
-/** log-domain Π(1 − jω/r): [ln|·|, arg]. */
-function logFactor(roots: Complex[], w: number): [number, number] {
-  let lm = 0;
-  let ar = 0;
-  for (const r of roots) {
-    const m2 = r.re * r.re + r.im * r.im;
-    const re = 1 - (w * r.im) / m2;
-    const im = -(w * r.re) / m2;
-    lm += 0.5 * Math.log(re * re + im * im);
-    ar += Math.atan2(im, re);
-  }
-  return [lm, ar];
-}
 
 /** Max deviation of the AC sweep from K·Π(1 − s/z)/Π(1 − s/p), K signed (arg K = 0 or 180°). */
 export function pzVsAc(k: number, poles: Complex[], zeros: Complex[], f: number[], db: number[], ph: number[]): { maxDb: number; maxDeg: number } {
