@@ -5,7 +5,7 @@ import { type LoopAnalysis, type NetworkAnalysis, analyzeLoop, analyzeNetwork } 
 import { type Figure, figure, missing } from './engine/figure';
 import { NetworkError } from './engine/network';
 import { type Root, rootHz } from './engine/roots';
-import type { Topology, Values } from './topologies/types';
+import type { HandEstimates, Topology, Values } from './topologies/types';
 
 export interface Model {
   topology: Topology;
@@ -34,48 +34,159 @@ export function evaluate(topology: Topology, values: Values): Model {
     if (err instanceof NetworkError) throw new ModelError(err.message);
     throw err;
   }
-  const beta = topology.beta(values);
-  let loop: LoopAnalysis;
+  const model = new LazyModel(topology, values, analysis);
+  // A network whose factored form could not be trusted is swept, and the sweep
+  // may find the response unevaluable: say so now, as a model error.
+  if (!analysis.factored) {
+    try {
+      void model.loop.phaseMargin;
+    } catch (err) {
+      if (err instanceof NetworkError) throw new ModelError(err.message);
+      throw err;
+    }
+  }
+  return model;
+}
+
+/** A figure whose derivation text is written only when read (most evaluations serve a solver, not a report). */
+function lazyFigure(value: number, unit: Figure['unit'], method: Figure['method'], how: () => string, notes?: string[]): Figure {
+  let text: string | undefined;
+  const f: Figure = {
+    value,
+    unit,
+    method,
+    get how(): string {
+      return (text ??= how());
+    },
+  };
+  if (notes && notes.length) f.notes = notes;
+  return f;
+}
+
+const LOOP_FIGURES = new Set(['gbw', 'bandwidth', 'phase_margin', 'gain_margin']);
+const ROOT_FIGURES = new Set(['dc_gain', 'p1', 'p2', 'rhp_zero']);
+
+/**
+ * A model computes each figure when it is first asked for: a solver that
+ * needs the phase margin never builds the gain margin, the hand estimates or
+ * the caveat text. The report asks for everything, once.
+ */
+class LazyModel implements Model {
+  readonly beta: number;
+  readonly exact: Record<string, Figure>;
+  private loopCache: LoopAnalysis | undefined;
+  private handCache: HandEstimates | undefined;
+  private extraDone = false;
+
+  constructor(
+    readonly topology: Topology,
+    readonly values: Values,
+    readonly analysis: NetworkAnalysis,
+  ) {
+    this.beta = topology.beta(values);
+    const figures: Record<string, Figure> = Object.create(null);
+    const compute = (key: string): void => {
+      if (ROOT_FIGURES.has(key)) Object.assign(figures, finite(rootFigures(this.analysis, key)));
+      else if (LOOP_FIGURES.has(key)) figures[key] = finite({ [key]: loopFigure(this.loop, key) })[key];
+      else this.extras(figures);
+    };
+    const all = (): void => {
+      for (const k of [...ROOT_FIGURES, ...LOOP_FIGURES]) if (!(k in figures)) compute(k);
+      this.extras(figures);
+    };
+    this.exact = new Proxy(figures, {
+      get(target, key) {
+        if (typeof key !== 'string') return undefined;
+        if (!(key in target)) compute(key);
+        return target[key];
+      },
+      has(target, key) {
+        if (typeof key !== 'string') return false;
+        if (!(key in target)) compute(key);
+        return key in target;
+      },
+      ownKeys(target) {
+        all();
+        return Reflect.ownKeys(target);
+      },
+      getOwnPropertyDescriptor(target, key) {
+        all();
+        return Reflect.getOwnPropertyDescriptor(target, key);
+      },
+    });
+  }
+
+  private extras(figures: Record<string, Figure>): void {
+    if (this.extraDone) return;
+    this.extraDone = true;
+    const more = finite({ ...this.topology.largeSignal(this.values), ...this.topology.figures?.(this.values) });
+    for (const [k, f] of Object.entries(more)) if (!(k in figures)) figures[k] = f;
+  }
+
+  get loop(): LoopAnalysis {
+    return (this.loopCache ??= analyzeLoop(this.analysis, this.beta));
+  }
+
+  private get handEstimates(): HandEstimates {
+    return (this.handCache ??= this.topology.hand(this.values, this.exact));
+  }
+
+  get hand(): Record<string, Figure> {
+    return finite(this.handEstimates.figures);
+  }
+
+  get caveats(): string[] {
+    return this.handEstimates.caveats;
+  }
+}
+
+function loopFigure(loop: LoopAnalysis, key: string): Figure {
   try {
-    loop = analyzeLoop(analysis, beta);
+    return loopFigureOf(loop, key);
   } catch (err) {
-    if (err instanceof NetworkError) throw new ModelError(err.message);
+    // The response could not be evaluated where a search needed it: a missing figure that says so.
+    if (err instanceof NetworkError) return missing(key === 'gain_margin' ? 'dB' : key === 'phase_margin' ? 'deg' : 'Hz', 'frequency-search', 'searched on the exact response', err.message);
     throw err;
   }
+}
+
+function loopFigureOf(loop: LoopAnalysis, key: string): Figure {
+  if (key === 'gbw') return loop.unityGain;
+  if (key === 'bandwidth') return loop.bandwidth;
+  if (key === 'phase_margin') return loop.phaseMargin;
+  return loop.gainMargin;
+}
+
+/** DC gain, p1, p2 and the right-half-plane zero, from the roots (the key asked for and its siblings' cheap parts). */
+function rootFigures(analysis: NetworkAnalysis, key: string): Record<string, Figure> {
   const { poles, zeros } = analysis;
-  const exact: Record<string, Figure> = {};
-
-  const gainDb = 20 * Math.log10(Math.abs(analysis.dcGain));
-  exact.dc_gain = Number.isFinite(gainDb)
-    ? figure(gainDb, 'dB', 'nodal-solve', `A0 = |v(out)/v(in)| from the nodal solve at DC = ${Math.abs(analysis.dcGain).toPrecision(5)} V/V`, analysis.dcGain < 0 ? ['the open-loop gain is inverting at DC'] : undefined)
-    : missing('dB', 'nodal-solve', 'A0 from the nodal solve at DC', 'the DC gain is zero: a zero sits at the origin');
-  exact.gbw = loop.unityGain;
-  exact.bandwidth = loop.bandwidth;
-
-  const polesText = poles.map(hz).join(', ') || 'none';
-  const rootNote = analysis.rootsPolished ? 'generalized eigenvalues of (G, C), Newton-refined' : 'generalized eigenvalues of (G, C) (Newton refinement did not converge for every root)';
-  const poleFigure = (i: number, name: string): Figure => {
-    const p = poles[i];
-    if (!p) return missing('Hz', 'exact-roots', rootNote, `the network has ${poles.length} pole${poles.length === 1 ? '' : 's'}: no ${name}`);
-    const notes = p.im !== 0 ? [`${name} is one of a complex pair (|p| = ${rootHz(p).toPrecision(4)} Hz, Q = ${(Math.hypot(p.re, p.im) / (2 * Math.abs(p.re))).toPrecision(3)})`] : [];
-    if (p.re > 0) notes.push(`${name} is in the right half-plane: the open loop is unstable`);
-    return figure(rootHz(p), 'Hz', 'exact-roots', `|${name}| of the poles of A(s): ${polesText}; ${rootNote}`, notes);
-  };
-  exact.p1 = poleFigure(0, 'p1');
-  exact.p2 = poleFigure(1, 'p2');
-
-  const zerosText = zeros.map(hz).join(', ') || 'none';
+  if (key === 'dc_gain') {
+    const gainDb = 20 * Math.log10(Math.abs(analysis.dcGain));
+    return {
+      dc_gain: Number.isFinite(gainDb)
+        ? figure(gainDb, 'dB', 'nodal-solve', `A0 = |v(out)/v(in)| from the nodal solve at DC = ${Math.abs(analysis.dcGain).toPrecision(5)} V/V`, analysis.dcGain < 0 ? ['the open-loop gain is inverting at DC'] : undefined)
+        : missing('dB', 'nodal-solve', 'A0 from the nodal solve at DC', 'the DC gain is zero: a zero sits at the origin'),
+    };
+  }
+  if (key === 'p1' || key === 'p2') {
+    const polesText = (): string => poles.map(hz).join(', ') || 'none';
+    const rootNote = analysis.rootsPolished ? 'generalized eigenvalues of (G, C), Newton-refined' : 'generalized eigenvalues of (G, C) (Newton refinement did not converge for every root)';
+    const poleFigure = (i: number, name: string): Figure => {
+      const p = poles[i];
+      if (!p) return missing('Hz', 'exact-roots', rootNote, `the network has ${poles.length} pole${poles.length === 1 ? '' : 's'}: no ${name}`);
+      const notes = p.im !== 0 ? [`${name} is one of a complex pair (|p| = ${rootHz(p).toPrecision(4)} Hz, Q = ${(Math.hypot(p.re, p.im) / (2 * Math.abs(p.re))).toPrecision(3)})`] : [];
+      if (p.re > 0) notes.push(`${name} is in the right half-plane: the open loop is unstable`);
+      return lazyFigure(rootHz(p), 'Hz', 'exact-roots', () => `|${name}| of the poles of A(s): ${polesText()}; ${rootNote}`, notes);
+    };
+    return { p1: poleFigure(0, 'p1'), p2: poleFigure(1, 'p2') };
+  }
+  const zerosText = (): string => zeros.map(hz).join(', ') || 'none';
   const rhp = zeros.filter((z) => z.re > 0);
-  exact.rhp_zero = rhp.length
-    ? figure(rootHz(rhp[0]), 'Hz', 'exact-roots', `lowest right-half-plane zero of A(s); zeros: ${zerosText}`, rhp[0].im !== 0 ? ['the right-half-plane zeros are a complex pair'] : undefined)
-    : missing('Hz', 'exact-roots', `zeros of A(s): ${zerosText}`, zeros.length ? 'A(s) has no zero in the right half-plane' : 'A(s) has no finite zero');
-
-  exact.phase_margin = loop.phaseMargin;
-  exact.gain_margin = loop.gainMargin;
-  Object.assign(exact, topology.largeSignal(values), topology.figures?.(values));
-
-  const hand = topology.hand(values, exact);
-  return { topology, values, beta, analysis, loop, exact: finite(exact), hand: finite(hand.figures), caveats: hand.caveats };
+  return {
+    rhp_zero: rhp.length
+      ? lazyFigure(rootHz(rhp[0]), 'Hz', 'exact-roots', () => `lowest right-half-plane zero of A(s); zeros: ${zerosText()}`, rhp[0].im !== 0 ? ['the right-half-plane zeros are a complex pair'] : undefined)
+      : missing('Hz', 'exact-roots', `zeros of A(s): ${zerosText()}`, zeros.length ? 'A(s) has no zero in the right half-plane' : 'A(s) has no finite zero'),
+  };
 }
 
 /**

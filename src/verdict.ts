@@ -53,7 +53,7 @@ function distance(computed: number, claimed: number, t: Tolerance): number {
  */
 export function judge(entry: ClaimEntry, value: number | null, figureValue: Figure | undefined, t: Tolerance): BoundVerdict[] {
   const out: BoundVerdict[] = [];
-  const unboundedAbove = value === null && figureValue?.reason?.includes('unbounded');
+  const unboundedAbove = value === null && figureValue?.unbounded === true;
   const v = value === null ? (unboundedAbove ? Infinity : NaN) : value;
   if (entry.typ) {
     const c = entry.typ.quantity.value;

@@ -2,10 +2,11 @@
 // response with a continuous phase, unity-gain frequency, and of the loop
 // gain β·A its crossovers, phase margin, gain margin and closed-loop poles.
 
-import { type Figure, figure, missing } from './figure';
+import { type Figure, figure, missing, unboundedMargin } from './figure';
 import { complexLU, complexSolve, realLU, realSolve } from './linalg';
 import { GROUND, type Network, NetworkError, type Stamped, stamp } from './network';
-import { type Root, SingularPencilError, pencilRoots, rootHz } from './roots';
+import { type PencilPolynomial, pencilPolynomial } from './poly';
+import { type Root, SingularPencilError, findRoots, rootHz } from './roots';
 
 const TWO_PI = 2 * Math.PI;
 const DEG = 180 / Math.PI;
@@ -32,6 +33,14 @@ export interface NetworkAnalysis {
   at(fHz: number): Response;
   /** Lowest and highest frequency (Hz) worth searching. */
   searchRange: [number, number];
+  /** H from its roots, when that agrees with the nodal solve; null otherwise (the loop is then swept). */
+  factored: FactoredResponse | null;
+  /**
+   * det(G + sC) and the bordered determinant (= det(G + sC)·H(s)), expanded,
+   * for networks of a few nodes: the closed loop's determinant is their sum
+   * det(G + sC)·(1 + βH(s)), with no further expansion.
+   */
+  polynomials: { denominator: PencilPolynomial; numerator: PencilPolynomial } | null;
 }
 
 export function analyzeNetwork(net: Network): NetworkAnalysis {
@@ -44,15 +53,16 @@ export function analyzeNetwork(net: Network): NetworkAnalysis {
   const xDc = realSolve(luDc, n, gIn.map((v) => -v));
   const dcGain = xDc[out];
 
-  const roots = (A: Float64Array, B: Float64Array, size: number) => {
+  const roots = (A: Float64Array, B: Float64Array, size: number, poly: PencilPolynomial | null) => {
     try {
-      return pencilRoots(A, B, size);
+      return findRoots(A, B, size, poly);
     } catch (err) {
       if (err instanceof SingularPencilError) throw new NetworkError(`the network cannot be solved: ${err.message} (values outside what double precision resolves?)`);
       throw err;
     }
   };
-  const { roots: poles, polished: polesPolished } = roots(G, C, n);
+  const denominator = pencilPolynomial(G, C, n);
+  const { roots: poles, polished: polesPolished } = roots(G, C, n, denominator);
   // Zeros: roots of the bordered pencil [[G + sC, gIn + s·cIn], [e_outᵀ, 0]],
   // whose determinant is, up to sign, the numerator of H(s) (Cramer's rule).
   const m = n + 1;
@@ -67,7 +77,8 @@ export function analyzeNetwork(net: Network): NetworkAnalysis {
     Ca[i * m + n] = cIn[i];
   }
   Ga[n * m + out] = 1;
-  const { roots: zeros, polished: zerosPolished } = roots(Ga, Ca, m);
+  const numerator = pencilPolynomial(Ga, Ca, m);
+  const { roots: zeros, polished: zerosPolished } = roots(Ga, Ca, m, numerator);
 
   const re = new Float64Array(n * n);
   const im = new Float64Array(n * n);
@@ -75,6 +86,7 @@ export function analyzeNetwork(net: Network): NetworkAnalysis {
   const bi = new Float64Array(n);
   const xr = new Float64Array(n);
   const xi = new Float64Array(n);
+  /** H(jω) by a nodal solve: the reference every shortcut is checked against. */
   const direct = (w: number): [number, number] => {
     for (let i = 0; i < n * n; i++) {
       re[i] = G[i];
@@ -89,31 +101,33 @@ export function analyzeNetwork(net: Network): NetworkAnalysis {
     return [xr[out], xi[out]];
   };
 
-  // Phase as a sum of per-root terms arg(1 − jω/r): each is continuous in ω
-  // for a root off the imaginary axis, so the sum needs no unwrapping.
-  const rootPhase = (roots: Root[], w: number): number => {
-    let sum = 0;
-    for (const r of roots) {
-      const m2 = r.re * r.re + r.im * r.im;
-      if (m2 === 0) sum += Math.PI / 2;
-      else sum += Math.atan2((-w * r.re) / m2, 1 - (w * r.im) / m2);
+  let wMin = Infinity;
+  let wMax = 0;
+  for (const list of [poles, zeros]) {
+    for (const r of list) {
+      const size = Math.hypot(r.re, r.im);
+      if (size > 0) {
+        wMin = Math.min(wMin, size);
+        wMax = Math.max(wMax, size);
+      }
     }
-    return sum;
-  };
-  const factored = (w: number): number => rootPhase(zeros, w) - rootPhase(poles, w);
-
-  const mags = [...poles, ...zeros].map((r) => Math.hypot(r.re, r.im)).filter((v) => v > 0);
-  const wLo = mags.length ? Math.min(...mags) * 1e-3 : 1;
-  const wHi = mags.length ? Math.max(...mags) * 1e3 : 1e12;
-  const [r0, i0] = direct(wLo);
-  // Constant part of the phase: 0 or ±π, read once near DC.
-  const k = Math.round((Math.atan2(i0, r0) - factored(wLo)) / Math.PI);
-  const phase0 = k % 2 === 0 ? 0 : -Math.PI;
-
+  }
+  const anyRoot = wMax > 0;
+  if (!anyRoot) wMin = wMax = 1;
+  const wLo = anyRoot ? wMin * 1e-3 : 1;
+  const wHi = anyRoot ? wMax * 1e3 : 1e12;
+  const factored = factorResponse(poles, zeros, dcGain, direct, wMin, wMax);
+  // Constant part of the phase: 0 or ±π, read once near DC, when first needed.
+  let phase0: number | undefined;
   const at = (fHz: number): Response => {
+    if (phase0 === undefined) {
+      const [r0, i0] = direct(wLo);
+      const k = Math.round((Math.atan2(i0, r0) - rootsPhase(zeros, poles, wLo)) / Math.PI);
+      phase0 = k % 2 === 0 ? 0 : -Math.PI;
+    }
     const w = TWO_PI * fHz;
     const [hr, hi] = w === 0 ? [dcGain, 0] : direct(w);
-    const base = phase0 + factored(w);
+    const base = phase0 + rootsPhase(zeros, poles, w);
     const diff = Math.atan2(hi, hr) - base;
     const wrapped = diff - TWO_PI * Math.round(diff / TWO_PI);
     return { re: hr, im: hi, magDb: 20 * Math.log10(Math.hypot(hr, hi)), phaseDeg: (base + wrapped) * DEG };
@@ -127,7 +141,189 @@ export function analyzeNetwork(net: Network): NetworkAnalysis {
     dcGain,
     at,
     searchRange: [wLo / TWO_PI, wHi / TWO_PI],
+    factored,
+    polynomials: denominator && numerator ? { denominator, numerator } : null,
   };
+}
+
+// Phase as a sum of per-root terms arg(1 − jω/r): each is continuous in ω
+// for a root off the imaginary axis, so the sum needs no unwrapping.
+function rootPhase(roots: Root[], w: number): number {
+  let sum = 0;
+  for (const r of roots) {
+    const m2 = r.re * r.re + r.im * r.im;
+    if (m2 === 0) sum += Math.PI / 2;
+    else sum += Math.atan2((-w * r.re) / m2, 1 - (w * r.im) / m2);
+  }
+  return sum;
+}
+const rootsPhase = (zeros: Root[], poles: Root[], w: number): number => rootPhase(zeros, w) - rootPhase(poles, w);
+
+/**
+ * H(jω) from its roots: H(s) = K·s^k·Π(1 − s/z)/Π(1 − s/p), with K real.
+ * Log-magnitude and continuous phase cost a few flops per root and allocate
+ * nothing, and each has a bound on its slope over any band, so a level
+ * crossing can be excluded between two samples instead of searched for on a
+ * dense grid.
+ */
+export class FactoredResponse {
+  /** Per root: re, im, |r|², and +1 for a zero, −1 for a pole. */
+  readonly re: Float64Array;
+  readonly im: Float64Array;
+  readonly m2: Float64Array;
+  readonly sign: Float64Array;
+  /** Zeros exactly at the origin (the factor s^k). */
+  readonly originZeros: number;
+  /** ln|K| and the constant phase: 0 for K > 0, −π for K < 0. */
+  readonly lnGain: number;
+  readonly phase0: number;
+  /** Net count of finite zeros minus poles (the slope of ln|H| per ln ω far above every root). */
+  readonly highSlope: number;
+  /** ln ω of the smallest and largest nonzero root. */
+  readonly lnMin: number;
+  readonly lnMax: number;
+
+  constructor(poles: Root[], zeros: Root[], gain: number) {
+    const all = [...zeros.filter((z) => z.re !== 0 || z.im !== 0).map((r) => [r, 1] as const), ...poles.map((r) => [r, -1] as const)];
+    const count = all.length;
+    this.re = new Float64Array(count);
+    this.im = new Float64Array(count);
+    this.m2 = new Float64Array(count);
+    this.sign = new Float64Array(count);
+    let lnMin = Infinity;
+    let lnMax = -Infinity;
+    all.forEach(([r, sign], i) => {
+      this.re[i] = r.re;
+      this.im[i] = r.im;
+      this.m2[i] = r.re * r.re + r.im * r.im;
+      this.sign[i] = sign;
+      const ln = 0.5 * Math.log(this.m2[i]);
+      lnMin = Math.min(lnMin, ln);
+      lnMax = Math.max(lnMax, ln);
+    });
+    this.originZeros = zeros.length - (count - poles.length);
+    this.lnGain = Math.log(Math.abs(gain));
+    this.phase0 = gain < 0 ? -Math.PI : 0;
+    this.highSlope = zeros.length - poles.length;
+    this.lnMin = Number.isFinite(lnMin) ? lnMin : 0;
+    this.lnMax = Number.isFinite(lnMax) ? lnMax : 0;
+  }
+
+  /** ln|H(jω)|. */
+  lnMag(w: number): number {
+    let sum = this.lnGain + (this.originZeros ? this.originZeros * Math.log(w) : 0);
+    const { re, im, m2, sign } = this;
+    for (let i = 0; i < re.length; i++) {
+      // |1 − jω/r|² = (a² + (b − ω)²)/|r|² = 1 + ω(ω − 2b)/|r|²; log1p keeps
+      // the low-frequency end exact, the direct form the resonant notch.
+      const x = (w * (w - 2 * im[i])) / m2[i];
+      const u = im[i] - w;
+      const t = x > -0.5 ? Math.log1p(x) : Math.log((re[i] * re[i] + u * u) / m2[i]);
+      sum += 0.5 * sign[i] * t;
+    }
+    return sum;
+  }
+
+  /** ∠H(jω) in radians, continuous from DC. */
+  phase(w: number): number {
+    let sum = this.phase0 + (this.originZeros * Math.PI) / 2;
+    const { re, im, m2, sign } = this;
+    for (let i = 0; i < re.length; i++) sum += sign[i] * Math.atan2((-w * re[i]) / m2[i], 1 - (w * im[i]) / m2[i]);
+    return sum;
+  }
+
+  /** An upper bound of |d ln|H| / d ln ω| over [w0, w1]. */
+  magSlopeBound(w0: number, w1: number): number {
+    let bound = this.originZeros;
+    const { re, im, m2 } = this;
+    for (let i = 0; i < re.length; i++) {
+      const a = Math.abs(re[i]);
+      const b = im[i];
+      if (b === 0) {
+        // ω²/(a² + ω²), increasing in ω.
+        bound += (w1 * w1) / (m2[i] + w1 * w1);
+        continue;
+      }
+      // ω(ω − b)/(a² + (ω − b)²): at most 1 + |b|/2a and ω/2a; far from ω = b,
+      // at most ω·d/(a² + d²) with d the distance to b.
+      let t = Math.min(1 + Math.abs(b) / (2 * a), w1 / (2 * a));
+      const d = b >= w0 && b <= w1 ? 0 : Math.min(Math.abs(w0 - b), Math.abs(w1 - b));
+      if (d >= a) t = Math.min(t, (w1 * d) / (a * a + d * d));
+      bound += t;
+    }
+    return bound;
+  }
+
+  /** An upper bound of |d∠H / d ln ω| over [w0, w1]. */
+  phaseSlopeBound(w0: number, w1: number): number {
+    let bound = 0;
+    const { re, im } = this;
+    for (let i = 0; i < re.length; i++) {
+      const a = Math.abs(re[i]);
+      const b = im[i];
+      // ω·a/(a² + (ω − b)²)
+      if (b === 0) {
+        // Peaks at 1/2 at ω = a; monotone on either side.
+        bound += w1 < a ? (w1 * a) / (a * a + w1 * w1) : w0 > a ? (w0 * a) / (a * a + w0 * w0) : 0.5;
+        continue;
+      }
+      const d = b >= w0 && b <= w1 ? 0 : Math.min(Math.abs(w0 - b), Math.abs(w1 - b));
+      bound += Math.min(Math.abs(b) / a + 0.5, (w1 * a) / (a * a + d * d));
+    }
+    return bound;
+  }
+
+  /** ln ω of the places where the response turns: each root's magnitude, a resonance's half-power points. */
+  breaks(): number[] {
+    const out: number[] = [];
+    const { re, im, m2 } = this;
+    for (let i = 0; i < re.length; i++) {
+      const w = Math.sqrt(m2[i]);
+      out.push(Math.log(w));
+      if (im[i] !== 0) {
+        const a = Math.abs(re[i]);
+        out.push(Math.log(Math.max(w - a, w / 2)), Math.log(w + a));
+      }
+    }
+    return out;
+  }
+}
+
+/**
+ * The factored form of H, or null when it does not reproduce the nodal solve
+ * (a root lost or spurious, an ill-conditioned network): the caller then
+ * sweeps the nodal response instead.
+ */
+function factorResponse(poles: Root[], zeros: Root[], dcGain: number, direct: (w: number) => [number, number], wMin: number, wMax: number): FactoredResponse | null {
+  const origin = zeros.filter((z) => z.re === 0 && z.im === 0).length;
+  let gain = dcGain;
+  const wRef = Math.sqrt(wMin * wMax);
+  if (origin > 0 || dcGain === 0) {
+    const unit = new FactoredResponse(poles, zeros, 1);
+    const [hr, hi] = direct(wRef);
+    const mag = Math.exp(Math.log(Math.hypot(hr, hi)) - unit.lnMag(wRef));
+    const rel = Math.atan2(hi, hr) - unit.phase(wRef);
+    const cos = Math.cos(rel);
+    // K is real: the phase left over must be 0 or π.
+    if (!(Math.abs(Math.sin(rel)) < 1e-7) || !(mag > 0) || !Number.isFinite(mag)) return null;
+    gain = cos > 0 ? mag : -mag;
+  }
+  if (!(gain !== 0) || !Number.isFinite(gain)) return null;
+  const f = new FactoredResponse(poles, zeros, gain);
+  // Two checks: between the roots, and above the highest one, where a lost or
+  // spurious root would show most.
+  if (!agrees(f, direct, wRef) || !agrees(f, direct, wMax * 2.9)) return null;
+  return f;
+}
+
+/** The factored form against the nodal solve at one frequency. */
+function agrees(f: FactoredResponse, direct: (w: number) => [number, number], w: number): boolean {
+  const [hr, hi] = direct(w);
+  const lnMag = Math.log(Math.hypot(hr, hi));
+  if (!Number.isFinite(lnMag)) return false;
+  const dPhase = Math.atan2(hi, hr) - f.phase(w);
+  const wrapped = dPhase - TWO_PI * Math.round(dPhase / TWO_PI);
+  return Math.abs(lnMag - f.lnMag(w)) <= 1e-7 && Math.abs(wrapped) <= 1e-7;
 }
 
 /** A log-spaced frequency grid (plus points around every root) with the response at each point. */
@@ -161,11 +357,12 @@ function sweep(a: NetworkAnalysis, lo: number, hi: number, extra: number[]): Swe
 }
 
 /**
- * Root of g(e^x) − target in [a, b] (x = ln f), bracketed by ga, gb of
- * opposite signs: regula falsi with the Illinois modification, which keeps
- * the bracket of bisection and converges superlinearly.
+ * Root of g(x) in [a, b], bracketed by ga, gb of opposite signs: regula falsi
+ * with the Illinois modification, which keeps the bracket of bisection and
+ * converges superlinearly (M. Dowell, P. Jarratt, "A modified regula falsi
+ * method for computing the root of an equation", BIT 11 (1971) 168–174).
  */
-function refine(g: (fHz: number) => number, target: number, a: number, b: number, ga: number, gb: number): number {
+function refine(g: (x: number) => number, a: number, b: number, ga: number, gb: number): number {
   // Invariant: ga and gb have opposite signs; a and b need not be ordered.
   for (let it = 0; it < 100; it++) {
     const lo = Math.min(a, b);
@@ -173,8 +370,8 @@ function refine(g: (fHz: number) => number, target: number, a: number, b: number
     if (hi - lo <= 1e-14 * Math.max(1, Math.abs(lo))) break;
     let x = b - (gb * (b - a)) / (gb - ga);
     if (!(x > lo && x < hi)) x = 0.5 * (lo + hi);
-    const gx = g(Math.exp(x)) - target;
-    if (gx === 0) return Math.exp(x);
+    const gx = g(x);
+    if (gx === 0) return x;
     if (gx * gb < 0) {
       a = b;
       ga = gb;
@@ -184,31 +381,91 @@ function refine(g: (fHz: number) => number, target: number, a: number, b: number
     b = x;
     gb = gx;
   }
-  return Math.exp(b);
+  return b;
 }
 
 /**
  * Frequencies (Hz) where g(f) = values − target changes sign on the sweep,
- * each refined by bisection in log f on the exact response.
+ * each refined in log f on the exact response.
  */
 function signChanges(s: Sweep, values: number[], target: number, g: (fHz: number) => number): number[] {
-  // Values within round-off of the level (a response that only touches it, or
-  // sits on it over a band) carry no sign; a crossing is a change of sign
-  // between two values clear of that noise.
-  const NOISE = 1e-7;
+  const gx = (x: number): number => g(Math.exp(x)) - target;
   const found: number[] = [];
   let last = -1;
   for (let i = 0; i < s.f.length; i++) {
     const gi = values[i] - target;
-    if (!(Math.abs(gi) >= NOISE)) continue;
+    if (!(Math.abs(gi) >= NOISE_DB)) continue;
     if (last >= 0) {
       const gl = values[last] - target;
-      if (gl * gi < 0) found.push(refine(g, target, Math.log(s.f[last]), Math.log(s.f[i]), gl, gi));
+      if (gl * gi < 0) found.push(Math.exp(refine(gx, Math.log(s.f[last]), Math.log(s.f[i]), gl, gi)));
     }
     last = i;
   }
   return found;
 }
+
+// Values within round-off of a level (a response that only touches it, or
+// sits on it over a band) carry no sign; a crossing is a change of sign
+// between two values clear of that noise.
+const NOISE_DB = 1e-7;
+const NOISE_NEPER = NOISE_DB / (20 / Math.LN10);
+const NOISE_SIN = 1e-9;
+/** Samples one level search may take before it gives up on the bounds (a few hundred is usual for a resonant network). */
+const SAMPLE_BUDGET = 20000;
+
+/**
+ * Every x (= ln ω) where g changes sign, on a continuous g whose slope is
+ * bounded on any band by `bound`: starting from the break points, a band
+ * whose ends are on the same side of the level and farther from it than the
+ * slope can travel holds no crossing; any other band is halved. So no
+ * crossing is missed between samples, however narrow a resonance, and a
+ * smooth response costs a few samples per root.
+ */
+function crossingsOf(g: (x: number) => number, bound: (w0: number, w1: number) => number, grid: number[], noise: number): number[] | null {
+  const sx: number[] = [];
+  const sg: number[] = [];
+  let spoilt = false;
+  const fill = (x0: number, g0: number, x1: number, g1: number, depth: number): void => {
+    const clear0 = Math.abs(g0) >= noise;
+    const clear1 = Math.abs(g1) >= noise;
+    if (clear0 && clear1 && g0 * g1 < 0) return; // a crossing is bracketed
+    if (depth >= 48 || x1 - x0 < 1e-10 || spoilt) return;
+    // A response that is not a number, or a search that keeps halving, is not
+    // one the bounds describe: the caller sweeps the nodal response instead.
+    if (Number.isNaN(g0) || Number.isNaN(g1) || sx.length > SAMPLE_BUDGET) {
+      spoilt = true;
+      return;
+    }
+    if (g0 * g1 > 0 && Math.abs(g0) + Math.abs(g1) > bound(Math.exp(x0), Math.exp(x1)) * (x1 - x0)) return;
+    const xm = 0.5 * (x0 + x1);
+    const gm = g(xm);
+    fill(x0, g0, xm, gm, depth + 1);
+    sx.push(xm);
+    sg.push(gm);
+    fill(xm, gm, x1, g1, depth + 1);
+  };
+  let g0 = g(grid[0]);
+  sx.push(grid[0]);
+  sg.push(g0);
+  for (let i = 1; i < grid.length; i++) {
+    const g1 = g(grid[i]);
+    fill(grid[i - 1], g0, grid[i], g1, 0);
+    sx.push(grid[i]);
+    sg.push(g1);
+    g0 = g1;
+  }
+  if (spoilt) return null;
+  const found: number[] = [];
+  let last = -1;
+  for (let i = 0; i < sx.length; i++) {
+    if (!(Math.abs(sg[i]) >= noise)) continue;
+    if (last >= 0 && sg[last] * sg[i] < 0) found.push(refine(g, sx[last], sx[i], sg[last], sg[i]));
+    last = i;
+  }
+  return found;
+}
+
+export type Stability = 'stable' | 'unstable' | 'unknown';
 
 export interface LoopAnalysis {
   beta: number;
@@ -218,21 +475,297 @@ export interface LoopAnalysis {
   unityGain: Figure;
   /** Frequencies where |β·A| = 1. */
   crossoversHz: number[];
+  /** 180° + ∠βA at each crossover, within ±180° (the margin each would give a stable loop). */
+  crossoverMarginsDeg: number[];
+  /** Frequencies where β·A(jω) is real and negative (∠βA ≡ −180°), with 20·log10|βA| there; ω = 0 included when βA(0) < 0. */
+  phaseCrossings: Array<{ fHz: number; loopDb: number }>;
   phaseMargin: Figure;
   gainMargin: Figure;
-  /** Poles of the closed loop A/(1 + βA), rad/s. */
+  /** Poles of the closed loop A/(1 + βA), rad/s (empty when they could not be computed). */
   closedLoopPoles: Root[];
+  /** From the closed-loop poles; 'unknown' when they could not be computed. */
+  stability: Stability;
+  /** stability === 'stable'. */
   stable: boolean;
 }
 
 const fmtHz = (f: number): string => `${f.toPrecision(4)} Hz`;
 /** Two decimals without a negative zero (`-0.00`). */
 const fixed2 = (x: number): string => (!Number.isFinite(x) ? 'none: zero gain' : Math.abs(x) < 0.005 ? '0.00' : x.toFixed(2));
+/** An angle into (−180°, 180°]. */
+export const wrapDeg = (x: number): number => x - 360 * Math.ceil((x - 180) / 360);
+
+const UNITY_HOW = '|A(jω)| = 1 searched on the exact response';
+const BW_HOW = '|A(j2πf)| = |A(0)|/√2 solved on the exact response';
+const PM_HOW = 'PM = 180° + ∠βA(j2πf_c) at |βA(j2πf_c)| = 1, the angle taken within ±180°';
+const GM_HOW = 'GM = −20·log10|βA(j2πf_180)| where ∠βA = −180° and |βA| < 1 (the gain-increase margin)';
+
+function unityFigure(crossings: number[], dcDb: number, how: string): Figure {
+  if (dcDb <= 0 && crossings.length === 0) return missing('Hz', 'frequency-search', UNITY_HOW, `|A| stays below 1 (DC gain ${fixed2(dcDb)} dB): no unity-gain frequency`);
+  if (crossings.length === 0) return missing('Hz', 'frequency-search', UNITY_HOW, '|A| stays above 1 at every frequency searched');
+  const notes = crossings.length > 1 ? [`|A| crosses 1 at ${crossings.length} frequencies (${crossings.map(fmtHz).join(', ')}); the first is reported`] : undefined;
+  return figure(crossings[0], 'Hz', 'frequency-search', how, notes);
+}
+
+function bandwidthFigure(crossings: number[], dcDb: number): Figure {
+  return crossings.length
+    ? figure(crossings[0], 'Hz', 'frequency-search', BW_HOW, crossings.length > 1 ? [`|A| crosses the −3 dB level ${crossings.length} times; the first is reported`] : undefined)
+    : missing('Hz', 'frequency-search', BW_HOW, Number.isFinite(dcDb) ? '|A| never falls 3 dB below its DC value' : 'the DC gain is zero');
+}
+
+const polesText = (poles: Root[]): string =>
+  poles.map((p) => `${(Math.hypot(p.re, p.im) / TWO_PI).toPrecision(4)} Hz${p.im !== 0 ? ` (Re ${(p.re / TWO_PI).toPrecision(3)} Hz)` : ''}`).join(', ');
+
+/**
+ * Phase and gain margins as the trade defines them, valid only for a loop
+ * whose closed-loop poles are all in the left half-plane:
+ * - phase margin: at each crossover |βA| = 1, 180° + ∠βA taken within ±180°
+ *   (the angle by which βA misses −1); the smallest over all crossovers;
+ * - gain margin: at each frequency where βA is real and negative, the gain
+ *   factor 1/|βA| that puts a closed-loop pole on the jω axis. Factors above 1
+ *   are gain-increase margins and the smallest is the gain margin; factors
+ *   below 1 (|βA| > 1 there) are gain-reduction margins of a conditionally
+ *   stable loop, reported as a note. Unbounded only when no gain increase
+ *   reaches −1 and the loop is stable.
+ * An unstable or undecided closed loop has no margins: the figures say why.
+ */
+function phaseMarginFigure(crossings: Array<{ fHz: number; phaseDeg: number }>, loopDcDb: number, stability: Stability, closedLoopPoles: Root[]): Figure {
+  if (crossings.length === 0) {
+    const none = loopDcDb < 0
+      ? missing('deg', 'frequency-search', PM_HOW, `|βA| stays below 1 (loop gain at DC ${fixed2(loopDcDb)} dB): no crossover, so no phase margin`)
+      : missing('deg', 'frequency-search', PM_HOW, '|βA| stays above 1 at every frequency searched: no crossover');
+    return stability === 'stable' ? none : withoutMargin(none, stability, closedLoopPoles, '°');
+  }
+  const margins = crossings.map((c) => wrapDeg(180 + c.phaseDeg));
+  let worst = 0;
+  for (let i = 1; i < margins.length; i++) if (margins[i] < margins[worst]) worst = i;
+  const notes = crossings.length > 1 ? [`|βA| crosses 1 at ${crossings.length} frequencies (${crossings.map((c, i) => `${fmtHz(c.fHz)}: ${margins[i].toFixed(1)}°`).join(', ')}); the worst margin is reported`] : [];
+  const pm = figure(margins[worst], 'deg', 'frequency-search', `${PM_HOW}; f_c = ${fmtHz(crossings[worst].fHz)}`, notes);
+  return stability === 'stable' ? pm : withoutMargin(pm, stability, closedLoopPoles, '°');
+}
+
+function gainMarginFigure(phaseCrossings: Array<{ fHz: number; loopDb: number }>, stability: Stability, closedLoopPoles: Root[]): Figure {
+  const increase = phaseCrossings.filter((c) => c.loopDb < 0);
+  const reduction = phaseCrossings.filter((c) => c.loopDb >= 0);
+  const notes: string[] = [];
+  if (reduction.length) {
+    let r = reduction[0];
+    for (const c of reduction) if (c.loopDb < r.loopDb) r = c;
+    notes.push(`conditionally stable: reducing the loop gain by ${r.loopDb.toFixed(1)} dB puts a closed-loop pole on the jω axis at ${r.fHz === 0 ? 'DC' : fmtHz(r.fHz)} (the gain-reduction margin)`);
+  }
+  let gm: Figure;
+  if (increase.length === 0) {
+    const reason = phaseCrossings.length === 0
+      ? 'the phase of βA never reaches −180°: the gain margin is unbounded'
+      : 'βA reaches −180° only where |βA| > 1: no increase of the loop gain makes the loop unstable, the gain margin is unbounded';
+    gm = unboundedMargin('dB', 'frequency-search', GM_HOW, reason, notes);
+  } else {
+    let worst = increase[0];
+    for (const c of increase) if (c.loopDb > worst.loopDb) worst = c;
+    if (increase.length > 1) notes.push(`the phase reaches −180° at ${increase.length} frequencies where |βA| < 1; the worst margin is reported`);
+    gm = figure(-worst.loopDb, 'dB', 'frequency-search', `${GM_HOW}; f_180 = ${worst.fHz === 0 ? 'DC' : fmtHz(worst.fHz)}`, notes);
+  }
+  return stability === 'stable' ? gm : withoutMargin(gm, stability, closedLoopPoles, ' dB');
+}
+
+/** A margin of a loop that is not known to be stable: no value, and why. */
+function withoutMargin(f: Figure, stability: Stability, closedLoopPoles: Root[], unit: string): Figure {
+  const why = stability === 'unstable'
+    ? `the closed loop is unstable (closed-loop poles in the right half-plane: ${polesText(closedLoopPoles.filter((p) => !(p.re < 1e-12 * Math.hypot(p.re, p.im))))}), so it has no margin`
+    : 'the closed-loop poles could not be computed, so the stability of the loop and its margins are not known';
+  const would = f.value !== null ? [`the margin read off the open loop would be ${f.value.toFixed(1)}${unit}, which means nothing for an unstable loop`] : [];
+  const out = missing(f.unit, f.method, f.how, why, [...would, ...(f.notes ?? [])]);
+  if (f.value !== null) out.openLoop = f.value;
+  return out;
+}
+
+/** D(s) + β·N(s), with the cancellation the sum adds. */
+function combine(d: PencilPolynomial, num: PencilPolynomial, beta: number): PencilPolynomial {
+  let len = Math.max(d.coef.length, num.coef.length);
+  const coef = new Float64Array(len);
+  const scale = new Float64Array(len);
+  for (let k = 0; k < len; k++) {
+    coef[k] = (d.coef[k] ?? 0) + beta * (num.coef[k] ?? 0);
+    scale[k] = (d.scale[k] ?? 0) + beta * (num.scale[k] ?? 0);
+  }
+  while (len > 0 && coef[len - 1] === 0 && scale[len - 1] === 0) len--;
+  const kept = new Float64Array(len);
+  for (let k = 0; k < len; k++) kept[k] = scale[k] === 0 ? 1 : Math.abs(coef[k]) / scale[k];
+  return { coef: coef.slice(0, len), kept, scale: scale.slice(0, len) };
+}
+
+/** Closed loop with the input driven by vin − β·vout. */
+function closedLoop(a: NetworkAnalysis, beta: number): { poles: Root[]; stability: Stability } {
+  // (G − β·gIn·e_outᵀ + s(C − β·cIn·e_outᵀ))·V = −(gIn + s·cIn)·vin.
+  const { n, G, C, gIn, cIn, out } = a.stamped;
+  const Gc = G.slice();
+  const Cc = C.slice();
+  for (let i = 0; i < n; i++) {
+    Gc[i * n + out] -= beta * gIn[i];
+    Cc[i * n + out] -= beta * cIn[i];
+  }
+  let poles: Root[];
+  try {
+    poles = findRoots(Gc, Cc, n, a.polynomials ? combine(a.polynomials.denominator, a.polynomials.numerator, beta) : undefined).roots;
+  } catch {
+    return { poles: [], stability: 'unknown' };
+  }
+  if (poles.some((p) => !Number.isFinite(p.re) || !Number.isFinite(p.im))) return { poles: [], stability: 'unknown' };
+  const stable = poles.every((p) => p.re < 1e-12 * Math.hypot(p.re, p.im));
+  return { poles, stability: stable ? 'stable' : 'unstable' };
+}
 
 export function analyzeLoop(a: NetworkAnalysis, beta: number): LoopAnalysis {
+  return a.factored ? new FactoredLoop(a, a.factored, beta) : sweptLoop(a, beta);
+}
+
+/**
+ * The loop from the factored response: each figure is computed when first
+ * asked for, so a solver that needs the phase margin pays for nothing else.
+ */
+type Memo = 'unity' | 'bw' | 'cross' | 'phaseX' | 'pm' | 'gm' | 'closed';
+const SWEPT_FIELD = { unity: 'unityGain', bw: 'bandwidth', cross: 'crossoversHz', phaseX: 'phaseCrossings', pm: 'phaseMargin', gm: 'gainMargin', closed: 'closedLoopPoles' } as const;
+
+/** Thrown by a search on the factored form that the slope bounds cannot settle. */
+class SweepInstead extends Error {}
+
+class FactoredLoop implements LoopAnalysis {
+  private cache: Partial<Record<Memo, unknown>> = {};
+
+  constructor(
+    private readonly a: NetworkAnalysis,
+    private readonly f: FactoredResponse,
+    readonly beta: number,
+  ) {}
+
+  private swept: LoopAnalysis | undefined;
+
+  private memo<T>(key: Memo, make: () => T): T {
+    if (!(key in this.cache)) {
+      try {
+        this.cache[key] = make();
+      } catch (err) {
+        if (!(err instanceof SweepInstead)) throw err;
+        this.swept ??= sweptLoop(this.a, this.beta);
+        this.cache[key] = this.swept[SWEPT_FIELD[key]];
+      }
+    }
+    return this.cache[key] as T;
+  }
+
+  private levels = new Map<number, number[]>();
+
+  /** Every frequency (Hz) where ln|A| crosses `level` (the unity gain of A and the crossover at β = 1 share one search). */
+  private levelHz(level: number): number[] {
+    let hit = this.levels.get(level);
+    if (!hit) this.levels.set(level, (hit = this.searchLevel(level)));
+    return hit;
+  }
+
+  private searchLevel(level: number): number[] {
+    const f = this.f;
+    const span = 3 * Math.LN10;
+    let lo = f.lnMin - span;
+    let hi = f.lnMax + span;
+    const g = (x: number): number => f.lnMag(Math.exp(x)) - level;
+    // Below every root the response is flat (or rises as ω^k with zeros at the
+    // origin): a level within round-off of the DC gain is crossed far down.
+    if (f.originZeros > 0) {
+      for (let i = 0; i < 6 && g(lo) > 0; i++) lo -= g(lo) / f.originZeros + 2;
+    } else {
+      const dc = Math.abs(f.lnGain - level);
+      if (dc < 1e-2) lo = Math.max(f.lnMin - 40, f.lnMin + 0.5 * Math.log(Math.max(dc, 1e-300)) - 3);
+    }
+    // Above every root ln|H| follows its asymptote of slope (zeros − poles).
+    if (f.highSlope !== 0) {
+      for (let i = 0; i < 6 && g(hi) * f.highSlope < 0; i++) hi += Math.abs(g(hi)) / Math.abs(f.highSlope) + 2;
+    }
+    const grid = [lo, ...f.breaks().filter((x) => x > lo && x < hi), hi].sort((x, y) => x - y);
+    const found = crossingsOf(g, (w0, w1) => f.magSlopeBound(w0, w1), grid, NOISE_NEPER);
+    if (!found) throw new SweepInstead();
+    return found.map((x) => Math.exp(x) / TWO_PI);
+  }
+
+  get unityGain(): Figure {
+    return this.memo('unity', () => unityFigure(this.levelHz(0), 20 * Math.log10(Math.abs(this.a.dcGain)), '|A(j2πf)| = 1 solved on the exact response (factored from its poles and zeros)'));
+  }
+
+  get bandwidth(): Figure {
+    return this.memo('bw', () => {
+      const dcDb = 20 * Math.log10(Math.abs(this.a.dcGain));
+      return bandwidthFigure(Number.isFinite(dcDb) ? this.levelHz(this.f.lnGain - 0.5 * Math.LN2) : [], dcDb);
+    });
+  }
+
+  get crossoversHz(): number[] {
+    return this.memo('cross', () => this.levelHz(-Math.log(this.beta)));
+  }
+
+  get crossoverMarginsDeg(): number[] {
+    return this.crossoversHz.map((fHz) => wrapDeg(180 + this.f.phase(TWO_PI * fHz) * DEG));
+  }
+
+  get phaseCrossings(): Array<{ fHz: number; loopDb: number }> {
+    return this.memo('phaseX', () => {
+      const f = this.f;
+      const out: Array<{ fHz: number; loopDb: number }> = [];
+      const toDb = 20 / Math.LN10;
+      const lnBeta = Math.log(this.beta);
+      // βA(0) real and negative: the first candidate is DC itself.
+      if (f.originZeros === 0 && f.phase0 !== 0) out.push({ fHz: 0, loopDb: (f.lnGain + lnBeta) * toDb });
+      const span = 3 * Math.LN10;
+      const lo = f.lnMin - span;
+      const hi = f.lnMax + span;
+      const grid = [lo, ...f.breaks(), hi].sort((x, y) => x - y);
+      // Zeros of sin∠βA are where βA is real; keep those where it is negative.
+      const sin = (x: number): number => Math.sin(f.phase(Math.exp(x)));
+      const found = crossingsOf(sin, (w0, w1) => f.phaseSlopeBound(w0, w1), grid, NOISE_SIN);
+      if (!found) throw new SweepInstead();
+      for (const x of found) {
+        const w = Math.exp(x);
+        if (Math.cos(f.phase(w)) < 0) out.push({ fHz: w / TWO_PI, loopDb: (f.lnMag(w) + lnBeta) * toDb });
+      }
+      return out;
+    });
+  }
+
+  private get closed(): { poles: Root[]; stability: Stability } {
+    return this.memo('closed', () => closedLoop(this.a, this.beta));
+  }
+
+  get closedLoopPoles(): Root[] {
+    return this.closed.poles;
+  }
+
+  get stability(): Stability {
+    return this.closed.stability;
+  }
+
+  get stable(): boolean {
+    return this.stability === 'stable';
+  }
+
+  get phaseMargin(): Figure {
+    return this.memo('pm', () => {
+      const crossings = this.crossoversHz.map((fHz) => ({ fHz, phaseDeg: this.f.phase(TWO_PI * fHz) * DEG }));
+      return phaseMarginFigure(crossings, (this.f.lnGain + Math.log(this.beta)) * (20 / Math.LN10), this.stability, this.closedLoopPoles);
+    });
+  }
+
+  get gainMargin(): Figure {
+    return this.memo('gm', () => gainMarginFigure(this.phaseCrossings, this.stability, this.closedLoopPoles));
+  }
+}
+
+/**
+ * The loop by sweeping the nodal response, for networks whose factored form
+ * does not reproduce the nodal solve (round-off swamps a root, a root is
+ * lost): a log grid plus points around every root, sign changes refined on the
+ * exact response.
+ */
+function sweptLoop(a: NetworkAnalysis, beta: number): LoopAnalysis {
   const [lo0, hi0] = a.searchRange;
   const loopDb = 20 * Math.log10(beta);
-  // Extend the search upward until the loop gain is well below unity.
   // Extend the search upward until the gain is well below unity, or stops
   // falling (a response that levels off above every pole crosses nothing more).
   const extend = (offsetDb: number): number => {
@@ -272,82 +805,23 @@ export function analyzeLoop(a: NetworkAnalysis, beta: number): LoopAnalysis {
   const mag = (f: number): number => a.at(f).magDb;
   const phase = (f: number): number => a.at(f).phaseDeg;
 
-  // Unity-gain frequency of A: the first crossing of 0 dB from above.
-  const unityCrossings = signChanges(s, s.magDb, 0, mag);
-  let unityGain: Figure;
-  if (a.at(lo).magDb <= 0 && unityCrossings.length === 0) {
-    unityGain = missing('Hz', 'frequency-search', '|A(jω)| = 1 searched on the exact response', `|A| stays below 1 (DC gain ${fixed2(a.at(lo).magDb)} dB): no unity-gain frequency`);
-  } else if (unityCrossings.length === 0) {
-    unityGain = missing('Hz', 'frequency-search', '|A(jω)| = 1 searched on the exact response', '|A| stays above 1 at every frequency searched');
-  } else {
-    const notes = unityCrossings.length > 1 ? [`|A| crosses 1 at ${unityCrossings.length} frequencies (${unityCrossings.map(fmtHz).join(', ')}); the first is reported`] : undefined;
-    unityGain = figure(unityCrossings[0], 'Hz', 'frequency-search', '|A(j2πf)| = 1 solved by bisection on the exact nodal response', notes);
-  }
-
+  const unityGain = unityFigure(signChanges(s, s.magDb, 0, mag), a.at(lo).magDb, '|A(j2πf)| = 1 solved on the exact nodal response');
   const dcDb = 20 * Math.log10(Math.abs(a.dcGain));
-  const bwHow = '|A(j2πf)| = |A(0)|/√2 solved by bisection on the exact nodal response';
-  const bwCrossings = Number.isFinite(dcDb) ? signChanges(s, s.magDb, dcDb - 10 * Math.log10(2), mag) : [];
-  const bandwidth = bwCrossings.length
-    ? figure(bwCrossings[0], 'Hz', 'frequency-search', bwHow, bwCrossings.length > 1 ? [`|A| crosses the −3 dB level ${bwCrossings.length} times; the first is reported`] : undefined)
-    : missing('Hz', 'frequency-search', bwHow, Number.isFinite(dcDb) ? '|A| never falls 3 dB below its DC value' : 'the DC gain is zero');
-  const loopMag = (f: number): number => a.at(f).magDb + loopDb;
+  const bandwidth = bandwidthFigure(Number.isFinite(dcDb) ? signChanges(s, s.magDb, dcDb - 10 * Math.log10(2), mag) : [], dcDb);
   const crossoversHz = signChanges(s, s.magDb, -loopDb, mag);
-  const pmHow = 'PM = 180° + ∠βA(j2πf_c) at |βA(j2πf_c)| = 1, phase followed continuously from DC';
-  let phaseMargin: Figure;
-  if (crossoversHz.length === 0) {
-    const dc = loopMag(lo);
-    phaseMargin = dc < 0
-      ? missing('deg', 'frequency-search', pmHow, `|βA| stays below 1 (loop gain at DC ${fixed2(dc)} dB): no crossover, so no phase margin`)
-      : missing('deg', 'frequency-search', pmHow, '|βA| stays above 1 at every frequency searched: no crossover');
-  } else {
-    const margins = crossoversHz.map((f) => 180 + a.at(f).phaseDeg);
-    let worst = 0;
-    for (let i = 1; i < margins.length; i++) if (margins[i] < margins[worst]) worst = i;
-    const notes = crossoversHz.length > 1
-      ? [`|βA| crosses 1 at ${crossoversHz.length} frequencies (${crossoversHz.map((f, i) => `${fmtHz(f)}: ${margins[i].toFixed(1)}°`).join(', ')}); the worst margin is reported`]
-      : [];
-    phaseMargin = figure(margins[worst], 'deg', 'frequency-search', `${pmHow}; f_c = ${fmtHz(crossoversHz[worst])}`, notes);
+  const phaseCrossings: Array<{ fHz: number; loopDb: number }> = [];
+  if (a.dcGain < 0) phaseCrossings.push({ fHz: 0, loopDb: dcDb + loopDb });
+  const lowest = Math.min(...s.phaseDeg);
+  const highest = Math.max(...s.phaseDeg);
+  for (let target = -180 + 360 * Math.floor((lowest + 180) / 360); target <= highest; target += 360) {
+    for (const f of signChanges(s, s.phaseDeg, target, phase)) phaseCrossings.push({ fHz: f, loopDb: mag(f) + loopDb });
   }
-
-  // Gain margin: where the continuous phase reaches −180° (or −540°, …).
-  const gmHow = 'GM = −20·log10|βA(j2πf_180)| where ∠βA = −180°';
-  const phaseCrossings: number[] = [];
-  for (const target of [-180, -540, 180]) {
-    phaseCrossings.push(...signChanges(s, s.phaseDeg, target, phase));
-  }
-  let gainMargin: Figure;
-  if (phaseCrossings.length === 0) {
-    gainMargin = missing('dB', 'frequency-search', gmHow, 'the phase of βA never reaches −180°: the gain margin is unbounded');
-  } else {
-    const gms = phaseCrossings.map((f) => -loopMag(f));
-    let worst = 0;
-    for (let i = 1; i < gms.length; i++) if (gms[i] < gms[worst]) worst = i;
-    const notes = phaseCrossings.length > 1
-      ? [`the phase reaches −180° at ${phaseCrossings.length} frequencies; the worst margin is reported`]
-      : [];
-    gainMargin = figure(gms[worst], 'dB', 'frequency-search', `${gmHow}; f_180 = ${fmtHz(phaseCrossings[worst])}`, notes);
-  }
-
-  // Closed loop with the input driven by vin − β·vout:
-  // (G − β·gIn·e_outᵀ + s(C − β·cIn·e_outᵀ))·V = −(gIn + s·cIn)·vin.
-  const { n, G, C, gIn, cIn, out } = a.stamped;
-  const Gc = G.slice();
-  const Cc = C.slice();
-  for (let i = 0; i < n; i++) {
-    Gc[i * n + out] -= beta * gIn[i];
-    Cc[i * n + out] -= beta * cIn[i];
-  }
-  let closedLoopPoles: Root[] = [];
-  try {
-    closedLoopPoles = pencilRoots(Gc, Cc, n).roots;
-  } catch {
-    closedLoopPoles = [];
-  }
-  const stable = closedLoopPoles.every((p) => p.re < 1e-12 * Math.hypot(p.re, p.im));
-  if (!stable && phaseMargin.value !== null) {
-    phaseMargin.notes = [...(phaseMargin.notes ?? []), 'the closed loop has a pole in the right half-plane: the loop is unstable'];
-  }
-  return { beta, bandwidth, unityGain, crossoversHz, phaseMargin, gainMargin, closedLoopPoles, stable };
+  phaseCrossings.sort((x, y) => x.fHz - y.fHz);
+  const closed = closedLoop(a, beta);
+  const phaseMargin = phaseMarginFigure(crossoversHz.map((fHz) => ({ fHz, phaseDeg: phase(fHz) })), a.at(lo).magDb + loopDb, closed.stability, closed.poles);
+  const gainMargin = gainMarginFigure(phaseCrossings, closed.stability, closed.poles);
+  const crossoverMarginsDeg = crossoversHz.map((fHz) => wrapDeg(180 + phase(fHz)));
+  return { beta, bandwidth, unityGain, crossoversHz, crossoverMarginsDeg, phaseCrossings, phaseMargin, gainMargin, closedLoopPoles: closed.poles, stability: closed.stability, stable: closed.stability === 'stable' };
 }
 
 /**

@@ -25,15 +25,28 @@ export interface Figure {
   how: string;
   reason?: string;
   notes?: string[];
+  /**
+   * A margin that does not exist because nothing limits it (no phase crossing
+   * where |βA| < 1, and the closed loop is stable): better than any value for
+   * a min bound. Decisions read this flag, never the wording of `reason`.
+   */
+  unbounded?: boolean;
+  /**
+   * For a margin withheld because the closed loop is not known to be stable:
+   * the value read off the open-loop response all the same (what a Bode plot
+   * shows), which means nothing for an unstable loop.
+   */
+  openLoop?: number;
 }
 
 export const figure = (value: number, unit: FigureUnit, method: Method, how: string, notes?: string[]): Figure =>
   notes && notes.length ? { value, unit, method, how, notes } : { value, unit, method, how };
 
-export const missing = (unit: FigureUnit, method: Method, how: string, reason: string): Figure => ({
-  value: null,
-  unit,
-  method,
-  how,
-  reason,
+export const missing = (unit: FigureUnit, method: Method, how: string, reason: string, notes?: string[]): Figure =>
+  notes && notes.length ? { value: null, unit, method, how, reason, notes } : { value: null, unit, method, how, reason };
+
+/** A margin that nothing limits (see Figure.unbounded). */
+export const unboundedMargin = (unit: FigureUnit, method: Method, how: string, reason: string, notes?: string[]): Figure => ({
+  ...missing(unit, method, how, reason, notes),
+  unbounded: true,
 });

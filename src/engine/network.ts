@@ -46,21 +46,24 @@ export class NetworkError extends Error {
 }
 
 export function stamp(net: Network): Stamped {
-  const names = new Set<string>();
+  // Unknown nodes in order of first appearance (ground and input excluded).
+  const index = new Map<string, number>();
+  const nodes: string[] = [];
+  const note = (node: string): void => {
+    if (node !== GROUND && node !== net.input && !index.has(node)) {
+      index.set(node, nodes.length);
+      nodes.push(node);
+    }
+  };
   for (const e of net.elements) {
-    names.add(e.a);
-    names.add(e.b);
+    note(e.a);
+    note(e.b);
     if (e.kind === 'vccs') {
-      names.add(e.ctrlP);
-      names.add(e.ctrlN);
+      note(e.ctrlP);
+      note(e.ctrlN);
     }
   }
-  names.delete(GROUND);
-  names.delete(net.input);
-  const nodes = [...names];
   const n = nodes.length;
-  const index = new Map<string, number>();
-  nodes.forEach((name, i) => index.set(name, i));
   const IN = -2;
   const idx = (node: string): number => (node === GROUND ? -1 : node === net.input ? IN : (index.get(node) as number));
   const out = index.get(net.output);
@@ -76,20 +79,10 @@ export function stamp(net: Network): Stamped {
     if (col === IN) mIn[row] += v;
     else if (col >= 0) M[row * n + col] += v;
   };
-  const twoTerminal = (M: Float64Array, mIn: Float64Array, a: string, b: string, y: number): void => {
-    const i = idx(a);
-    const j = idx(b);
-    add(M, mIn, i, i, y);
-    add(M, mIn, j, j, y);
-    add(M, mIn, i, j, -y);
-    add(M, mIn, j, i, -y);
-  };
   for (const e of net.elements) {
-    if (e.kind === 'conductance') twoTerminal(G, gIn, e.a, e.b, e.siemens);
-    else if (e.kind === 'capacitance') twoTerminal(C, cIn, e.a, e.b, e.farads);
-    else {
-      const i = idx(e.a);
-      const j = idx(e.b);
+    const i = idx(e.a);
+    const j = idx(e.b);
+    if (e.kind === 'vccs') {
       const p = idx(e.ctrlP);
       const q = idx(e.ctrlN);
       // KCL written as currents leaving each node.
@@ -97,7 +90,13 @@ export function stamp(net: Network): Stamped {
       add(G, gIn, i, q, -e.gm);
       add(G, gIn, j, p, -e.gm);
       add(G, gIn, j, q, e.gm);
+      continue;
     }
+    const [M, mIn, y] = e.kind === 'conductance' ? [G, gIn, e.siemens] : [C, cIn, e.farads];
+    add(M, mIn, i, i, y);
+    add(M, mIn, j, j, y);
+    add(M, mIn, i, j, -y);
+    add(M, mIn, j, i, -y);
   }
   return { nodes, n, G, C, gIn, cIn, out };
 }

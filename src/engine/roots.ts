@@ -2,6 +2,7 @@
 // (A = G, B = C) or, with the bordered pencil, the zeros of a transfer function.
 
 import { complexLU, complexSolve, eigenvalues, realLU, realSolve } from './linalg';
+import { type PencilPolynomial, pencilPolynomial, polynomialRoots } from './poly';
 
 /** A root in the complex frequency plane, in rad/s. */
 export interface Root {
@@ -191,7 +192,7 @@ function polish(A: Float64Array, B: Float64Array, n: number, start: Root[], fixe
   return { roots: roots.filter((_, k) => !rejected[k]), converged: done.every((d) => d) };
 }
 
-interface Workspace {
+export interface Workspace {
   re: Float64Array;
   im: Float64Array;
   br: Float64Array;
@@ -200,7 +201,7 @@ interface Workspace {
   xi: Float64Array;
 }
 
-const workspace = (n: number): Workspace => ({
+export const workspace = (n: number): Workspace => ({
   re: new Float64Array(n * n),
   im: new Float64Array(n * n),
   br: new Float64Array(n),
@@ -210,7 +211,7 @@ const workspace = (n: number): Workspace => ({
 });
 
 /** d/ds ln det(A + sB) = tr((A + sB)⁻¹B) at s, as [re, im]; null where A + sB is exactly singular (a root). */
-function logDerivative(A: Float64Array, B: Float64Array, n: number, s: Root, w: Workspace): [number, number] | null {
+export function logDerivative(A: Float64Array, B: Float64Array, n: number, s: Root, w: Workspace): [number, number] | null {
   for (let i = 0; i < n * n; i++) {
     w.re[i] = A[i] + s.re * B[i];
     w.im[i] = s.im * B[i];
@@ -228,7 +229,7 @@ function logDerivative(A: Float64Array, B: Float64Array, n: number, s: Root, w: 
   return [tr, ti];
 }
 
-function symmetrise(roots: Root[]): Root[] {
+export function symmetrise(roots: Root[]): Root[] {
   // A real pencil has real roots or conjugate pairs; remove round-off asymmetry.
   const out: Root[] = [];
   const used = new Array<boolean>(roots.length).fill(false);
@@ -270,3 +271,63 @@ export function sortRoots(roots: Root[]): Root[] {
 }
 
 export const rootHz = (r: Root): number => Math.hypot(r.re, r.im) / (2 * Math.PI);
+
+/**
+ * All finite roots of det(A + sB), the cheap way first: for a pencil of a few
+ * nodes, the roots of its determinant polynomial (poly.ts), Newton-polished on
+ * the determinant itself when the expansion lost digits to cancellation; else,
+ * or when that does not settle, the eigenvalue path of pencilRoots.
+ */
+export function findRoots(A: Float64Array, B: Float64Array, n: number, poly?: PencilPolynomial | null): PencilRoots {
+  if (n === 0) return { roots: [], polished: true, shift: 0 };
+  const p = poly === undefined ? pencilPolynomial(A, B, n) : poly;
+  const roots = p ? rootsOfExpansion(p) : null;
+  if (roots && (roots.kept >= 1e-3 || polishOnDeterminant(A, B, n, roots.roots))) {
+    return { roots: sortRoots(symmetrise(roots.roots)), polished: true, shift: 0 };
+  }
+  return pencilRoots(A, B, n);
+}
+
+/** Roots of an expanded determinant, with the worst fraction of a coefficient kept through cancellation; null when it cannot be trusted. */
+function rootsOfExpansion(p: PencilPolynomial): { roots: Root[]; kept: number } | null {
+  if (p.coef.length === 0) return null;
+  let kept = 1;
+  for (let k = 0; k < p.kept.length; k++) kept = Math.min(kept, p.kept[k]);
+  // A coefficient at the round-off level of its terms may be an exact zero:
+  // its roots would be spurious, so that pencil takes the eigenvalue path.
+  if (kept < 1e-10) return null;
+  const roots = polynomialRoots(p.coef);
+  return roots ? { roots, kept } : null;
+}
+
+/** Newton steps on det(A + sB) from close estimates; false when a root will not settle. */
+function polishOnDeterminant(A: Float64Array, B: Float64Array, n: number, roots: Root[]): boolean {
+  const work = workspace(n);
+  for (const r of roots) {
+    const size = Math.hypot(r.re, r.im);
+    if (size === 0) continue;
+    let settled = false;
+    for (let it = 0; it < 6 && !settled; it++) {
+      const d = logDerivative(A, B, n, r, work);
+      if (!d) {
+        settled = true;
+        break;
+      }
+      const t2 = d[0] * d[0] + d[1] * d[1];
+      if (!(t2 > 0) || !Number.isFinite(t2)) return false;
+      const stepRe = d[0] / t2;
+      const stepIm = -d[1] / t2;
+      const step = Math.hypot(stepRe, stepIm);
+      // The estimate is already close: a large step means it is not a root of the determinant.
+      if (step > 1e-3 * size) return false;
+      r.re -= stepRe;
+      r.im -= stepIm;
+      settled = step <= 1e-14 * size;
+    }
+    if (!settled) {
+      const d = logDerivative(A, B, n, r, work);
+      if (d && 1 / Math.hypot(d[0], d[1]) > 1e-9 * size) return false;
+    }
+  }
+  return true;
+}

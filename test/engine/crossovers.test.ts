@@ -64,13 +64,27 @@ describe('several crossovers', () => {
     expect(Math.hypot(pair.re, pair.im) / (2 * Math.abs(pair.re))).toBeCloseTo(Q, 9);
   });
 
-  it('reports every crossing and the worst phase margin, and says so', () => {
+  it('reports every crossing with its margin, and says so', () => {
     expect(expected).toHaveLength(3);
     expect(loop.crossoversHz).toHaveLength(3);
     loop.crossoversHz.forEach((f, i) => expect(Math.abs(2 * Math.PI * f - expected[i]) / expected[i]).toBeLessThan(1e-9));
     const margins = expected.map((w) => 180 + phaseDeg(w));
-    expect(loop.phaseMargin.value!).toBeCloseTo(Math.min(...margins), 6);
+    loop.crossoverMarginsDeg.forEach((m, i) => expect(m).toBeCloseTo(margins[i], 6));
     expect(loop.phaseMargin.notes?.join(' ')).toMatch(/crosses 1 at 3 frequencies/);
+  });
+
+  it('decides stability from the closed loop, and gives no margin to an unstable one', () => {
+    // Closed loop with β = 1: (1 + s)(s² + s·ω0/Q + ω0²) + 10·ω0² = s³ + a2·s² + a1·s + a0.
+    // Routh–Hurwitz for a cubic with positive coefficients: stable iff a2·a1 > a0
+    // (e.g. Ogata, "Modern Control Engineering", the Routh stability criterion).
+    const a2 = 1 + w0 / Q;
+    const a1 = w0 / Q + w0 * w0;
+    const a0 = w0 * w0 + 10 * w0 * w0;
+    expect(a2 * a1 > a0).toBe(false);
+    expect(loop.stability).toBe('unstable');
+    expect(loop.phaseMargin.value).toBeNull();
+    expect(loop.phaseMargin.reason).toMatch(/closed loop is unstable/);
+    expect(loop.phaseMargin.openLoop!).toBeCloseTo(Math.min(...expected.map((w) => 180 + phaseDeg(w))), 6);
   });
 
   it('follows the phase through −180° without wrapping (the biquad alone swings 180°)', () => {

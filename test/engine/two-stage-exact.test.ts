@@ -83,14 +83,20 @@ describe('two-stage Miller network against its closed-form transfer function', (
     expect(a.at(1e-3).phaseDeg).toBeCloseTo(0, 3);
   });
 
-  it('reports a negative margin and an unstable closed loop when cc is far too small', () => {
+  it('withholds the margins of a closed loop that is unstable, showing what the open loop reads', () => {
     // A heavy load with a weak second stage: the RHP zero and p2 both fall below the crossover.
     const a = analyzeNetwork(twoStageMiller.network({ gm1: 1e-3, r1: 2e6, c1: 100e-15, gm2: 0.5e-3, r2: 200e3, c2: 200e-15, cc: 0.2e-12, cl: 20e-12, beta: 1 }));
     const loop = analyzeLoop(a, 1);
-    expect(loop.phaseMargin.value).not.toBeNull();
-    expect(loop.phaseMargin.value!).toBeLessThan(0);
     expect(loop.stable).toBe(false);
-    expect(loop.phaseMargin.notes?.join(' ')).toContain('unstable');
+    expect(loop.stability).toBe('unstable');
+    expect(loop.phaseMargin.value).toBeNull();
+    expect(loop.phaseMargin.reason).toMatch(/closed loop is unstable/);
+    expect(loop.phaseMargin.openLoop!).toBeLessThan(0);
+    expect(loop.gainMargin.value).toBeNull();
+    expect(loop.gainMargin.unbounded).toBeFalsy();
+    // Routh–Hurwitz on the closed-loop denominator D(s) + N(s) agrees (test/engine/stability.test.ts
+    // checks the verdict across many designs); here one closed-loop pole pair sits in the right half-plane.
+    expect(loop.closedLoopPoles.some((p) => p.re > 0)).toBe(true);
     // and the nominal design is stable with a positive margin
     const ok = analyzeLoop(analyzeNetwork(twoStageMiller.network(base)), 1);
     expect(ok.stable).toBe(true);

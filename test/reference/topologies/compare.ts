@@ -5,6 +5,8 @@
 // 1000× below the lowest pole, where it is within ~1e-6 of its DC limit).
 
 import { evaluate } from '../../../src/model';
+import { wrapDeg } from '../../../src/engine/analyze';
+import { readOffOpenLoop } from '../compare';
 import { commonSource } from '../../../src/topologies/common-source';
 import { singleStage } from '../../../src/topologies/single-stage';
 import { threeStageNestedMiller } from '../../../src/topologies/three-stage-nested-miller';
@@ -77,8 +79,10 @@ export function compare(kind: TopologyId, d: AnyDesign, ng: TopologyResult): Err
     if (mine.length !== theirs.length) e.problems.push(`loop crossovers: engine ${JSON.stringify(loop.crossoversHz)}, ngspice ${JSON.stringify(theirs)}`);
     else for (let i = 0; i < mine.length; i++) e.crossoverRel = Math.max(e.crossoverRel, rel(mine[i], theirs[i]));
     e.crossoverRel = Math.max(e.crossoverRel, num('first loop crossover', loop.crossoversHz[0] ?? null, ng.loopCrossoverHz, rel));
-    e.phaseMarginDeg = num('phase margin', exact.phase_margin?.value, ng.phaseMarginDeg, abs);
-    const gm = exact.gain_margin?.value ?? null;
+    // Margins as ngspice's sweep reads them off the open loop; stability is decided apart (readOffOpenLoop).
+    const read = readOffOpenLoop(loop, ng.phaseMarginDeg);
+    e.phaseMarginDeg = num('phase margin', read.phaseMarginDeg, ng.phaseMarginDeg === null || ng.phaseMarginDeg === undefined ? ng.phaseMarginDeg : wrapDeg(ng.phaseMarginDeg), abs);
+    const gm = read.gainMarginDb;
     // A phase crossing beyond ngspice's sweep (two decades above every root) is the engine's alone.
     if (gm !== null && ng.gainMarginDb !== null && ng.gainMarginDb !== undefined) e.gainMarginDb = abs(gm, ng.gainMarginDb);
     else if (ng.gainMarginDb !== null && ng.gainMarginDb !== undefined) e.problems.push(`gain margin: engine none, ngspice ${ng.gainMarginDb}`);
