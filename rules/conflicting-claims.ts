@@ -1,4 +1,5 @@
 import { typicalValues } from '../src/evaluation';
+import { byCodeUnit } from '../src/findings';
 import type { Draft, Rule } from '../src/rule';
 import type { ClaimEntry } from '../src/spec/types';
 import { toleranceFor } from '../src/verdict';
@@ -13,7 +14,7 @@ const rule: Rule = {
   options: {},
   check(ctx) {
     const typical = typicalValues(ctx.spec);
-    const point = (c: ClaimEntry) => JSON.stringify(Object.entries({ ...typical, ...(c.conditions?.values ?? {}) }).sort(([a], [b]) => a.localeCompare(b)));
+    const point = (c: ClaimEntry) => JSON.stringify(Object.entries({ ...typical, ...(c.conditions?.values ?? {}) }).sort(([a], [b]) => byCodeUnit(a, b)));
     // The values a figure may take for the claim to hold: typ ± tolerance, ≥ min, ≤ max.
     const interval = (c: ClaimEntry): [number, number] => {
       const t = toleranceFor(c.spec.kind, ctx.tolerances);

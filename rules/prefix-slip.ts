@@ -1,10 +1,9 @@
 import { formatQuantity } from '../src/quantity';
 import type { Draft, Rule } from '../src/rule';
+import { slipFactor, writtenValues } from '../src/slips';
 
-// A value outside the plausible range of an integrated block by exactly a
-// factor that one wrong prefix explains (m for M is 10⁹, n for µ is 10³) is
-// most likely a typing slip rather than a design decision.
-const FACTORS = [1e3, 1e-3, 1e6, 1e-6, 1e9, 1e-9];
+// A likely slip of one SI prefix (src/slips.ts): the value is outside the
+// plausible range of an integrated block by exactly the factor it explains.
 
 const rule: Rule = {
   id: 'prefix-slip',
@@ -17,17 +16,11 @@ const rule: Rule = {
     for (const entry of ctx.spec.params.values()) {
       const range = entry.spec.plausible;
       if (!range) continue;
-      // Only what the author wrote: not a midpoint, not the ends computed from `±N%`.
-      const written = entry.tolerance ? [entry.typ] : [entry.typIsMidpoint ? undefined : entry.typ, entry.min, entry.max];
-      for (const q of written) {
-        if (!q) continue;
-        const v = q.quantity.value;
-        if (v === 0 || (v >= range[0] && v <= range[1])) continue;
-        const w = q.quantity.written;
-        // Prefer the case slip the author's own prefix suggests (m ↔ M), then the smallest factor.
-        const order = /^m/.test(w.unit) ? [1e9, ...FACTORS] : /^M/.test(w.unit) ? [1e-9, ...FACTORS] : FACTORS;
-        const factor = order.find((f) => v * f >= range[0] && v * f <= range[1]);
+      for (const q of writtenValues(entry)) {
+        const factor = slipFactor(entry, q);
         if (factor === undefined) continue;
+        const v = q.quantity.value;
+        const w = q.quantity.written;
         const likely = formatQuantity(v * factor, entry.spec.kind, Math.max(2, w.sigDigits));
         out.push({
           line: q.pos.line,

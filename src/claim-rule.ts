@@ -4,11 +4,13 @@
 
 import { conditionsText } from './evaluation';
 import type { Figure } from './engine/figure';
-import { correctedClaim, designChanges } from './fixes';
+import type { ClaimVerdict, Fix } from './findings';
+import { designChanges, renderFixes, restate } from './fixes';
 import { worstCase } from './worst-case';
 import type { Draft, Rule, RuleContext } from './rule';
 import { CANONICAL_UNIT } from './quantity';
 import type { ClaimEntry } from './spec/types';
+import type { Values } from './topologies/types';
 import { type BoundVerdict, boundSymbol, describeTolerance, judge, offBy, show, toleranceFor } from './verdict';
 
 export interface ClaimRuleSpec {
@@ -57,14 +59,16 @@ function checkEntry(ctx: RuleContext, def: ClaimRuleSpec, entry: ClaimEntry): Dr
   const points = pointsOf(ctx, def.claim);
   const typical = points[0];
   const drafts: Draft[] = [];
-  const verdicts: Array<{ v: BoundVerdict; at: Point }> = [];
-  if (entry.typ) verdicts.push(...judge({ ...entry, min: undefined, max: undefined }, typical.value, typical.figure, t).map((v) => ({ v, at: typical })));
+  const verdicts: Array<{ v: BoundVerdict; at: Point; values: Values; stability: ClaimVerdict['stability'] }> = [];
+  const typModel = ctx.model;
+  if (entry.typ) verdicts.push(...judge({ ...entry, min: undefined, max: undefined }, typical.value, typical.figure, t).map((v) => ({ v, at: typical, values: typModel.values, stability: typModel.loop.stability })));
   for (const bound of ['min', 'max'] as const) {
     if (!entry[bound]) continue;
     const w = worstCase(ctx, def.claim, bound);
     const at: Point = { label: w.label, where: conditionsText(ctx.spec, w.values), figure: w.figure, value: w.value };
     const only = { ...entry, typ: undefined, min: bound === 'min' ? entry.min : undefined, max: bound === 'max' ? entry.max : undefined };
-    verdicts.push(...judge(only, at.value, at.figure, t).map((v) => ({ v, at })));
+    const stability = ctx.withChanges(w.values)?.loop.stability ?? 'unknown';
+    verdicts.push(...judge(only, at.value, at.figure, t).map((v) => ({ v, at, values: w.values, stability })));
   }
   const claimed = {
     ...(entry.typ ? { typ: entry.typ.quantity.value } : {}),
@@ -72,12 +76,13 @@ function checkEntry(ctx: RuleContext, def: ClaimRuleSpec, entry: ClaimEntry): Dr
     ...(entry.max ? { max: entry.max.quantity.value } : {}),
   };
   const unit = CANONICAL_UNIT[kind];
-  for (const { v, at } of verdicts) {
+  for (const { v, at, values, stability } of verdicts) {
     if (v.outcome === 'holds') continue;
     // SPEC-FORMAT §4: a claim's finding points at its key (front matter) or its cell (table).
     const pos = entry.source === 'table' ? entry[v.bound]!.pos : entry.keyPos;
     const written = entry[v.bound]!.quantity.written.text;
-    const corner = at.label !== 'typical' ? ` at the corner ${at.label} (${at.where})` : ` at ${at.where}`;
+    // A vertex is named by its ends ("gm1 min, cl max"); a point inside the box by its values.
+    const corner = at.label === 'typical' ? ` at ${at.where}` : at.label.includes(' = ') ? ` at ${at.label} (${at.where})` : ` at the corner ${at.label} (${at.where})`;
     const claimText = `${def.noun} claimed ${boundSymbol[v.bound]}${written}`;
     let message: string;
     if (at.value === null) {
@@ -90,8 +95,8 @@ function checkEntry(ctx: RuleContext, def: ClaimRuleSpec, entry: ClaimEntry): Dr
     }
     const notes = at.figure?.notes ?? [];
     if (notes.length) message += `; ${notes.join('; ')}`;
-    const suggestions = v.outcome === 'fails' && at.value !== null
-      ? [...correctedClaim(entry, [v], at.value, at.where), ...(at.label === 'typical' ? designChanges(ctx, entry, [v]) : [])]
+    const fixes: Fix[] = v.outcome === 'fails'
+      ? [...(at.value !== null ? [restate(ctx, entry, v, at.value, at.where)] : []), ...designChanges(ctx, entry, v, values)]
       : [];
     drafts.push({
       line: pos.line,
@@ -101,7 +106,18 @@ function checkEntry(ctx: RuleContext, def: ClaimRuleSpec, entry: ClaimEntry): Dr
       computed: at.value,
       unit,
       message,
-      suggestions,
+      suggestions: renderFixes(fixes),
+      ...(fixes.length ? { fixes } : {}),
+      verdict: {
+        bound: v.bound,
+        outcome: v.outcome,
+        stated: v.claimed,
+        computed: at.value,
+        deviation: at.value === null ? null : at.value - v.claimed,
+        tolerance: { value: t.value, relative: t.relative },
+        at: { label: at.label, conditions: at.where, values: { ...values } },
+        stability,
+      },
       ...(v.outcome === 'thin' ? { severity: 'warning' as const } : {}),
       ...(at.figure ? { derivation: { method: at.figure.method, how: at.figure.how, ...(at.figure.notes?.length ? { notes: at.figure.notes } : {}) } } : {}),
     });

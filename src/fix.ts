@@ -1,14 +1,11 @@
 // --fix: rewrite stale typical claims (and, with --fix-bounds, failing bounds)
-// to the model's figures, in the author's unit and precision. Edits are the
-// smallest spans — the value's text, or a table cell's number — and every
-// byte outside them is kept. Params are never touched.
+// to the model's figures. The edits are the restatements the claim rules
+// decided (findings' `fixes`), never judged again here: a waived finding or a
+// rule that is off yields none, and a restatement the rule withheld (a prefix
+// slip under it, a row it would contradict) is not written. Every byte
+// outside the edited spans is kept. Params are never touched.
 
 import type { FileResult } from './check';
-import { formatBound } from './fixes';
-import { formatLike } from './quantity';
-import type { ClaimEntry, QuantityAt } from './spec/types';
-import { judge, toleranceFor } from './verdict';
-import { worstCase } from './worst-case';
 
 export interface Edit {
   /** Offsets in the text as read (BOM excluded). */
@@ -20,42 +17,16 @@ export interface Edit {
   line: number;
 }
 
-const LEADING_NUMBER = /^[+\-\u2212]?(?:\d+\.?\d*|\.\d+)(?:[eE][+\-\u2212]?\d+)?/;
-
-function edit(entry: ClaimEntry, bound: 'typ' | 'min' | 'max', q: QuantityAt, formatted: string, original: string): Edit | undefined {
-  if (!q.span) return undefined;
-  const text = q.span.numberOnly ? (formatted.match(LEADING_NUMBER)?.[0] ?? formatted) : formatted;
-  if (text === original.slice(q.span.start, q.span.end)) return undefined;
-  return { start: q.span.start, end: q.span.end, text, claim: entry.key, bound, line: q.pos.line };
-}
-
 /** The edits that bring a checked file's claims in line with the model. */
 export function planFixes(result: FileResult, text: string, opts: { bounds?: boolean } = {}): Edit[] {
   const edits: Edit[] = [];
-  for (const point of result.points ?? []) {
-    const ctx = point.context;
-    for (const entry of point.claims) {
-      const t = toleranceFor(entry.spec.kind, ctx.tolerances);
-      if (entry.typ) {
-        const fig = ctx.model.exact[entry.key];
-        const value = fig?.value ?? null;
-        const only = { ...entry, min: undefined, max: undefined };
-        if (value !== null && judge(only, value, fig, t)[0]?.outcome === 'fails') {
-          const e = edit(entry, 'typ', entry.typ, formatLike(value, entry.typ.quantity.written, entry.spec.kind), text);
-          if (e) edits.push(e);
-        }
-      }
-      if (!opts.bounds) continue;
-      for (const bound of ['min', 'max'] as const) {
-        const q = entry[bound];
-        if (!q) continue;
-        const w = worstCase(ctx, entry.key, bound);
-        if (w.value === null) continue;
-        const only = { ...entry, typ: undefined, min: bound === 'min' ? q : undefined, max: bound === 'max' ? q : undefined };
-        if (judge(only, w.value, w.figure, t)[0]?.outcome !== 'fails') continue;
-        const e = edit(entry, bound, q, formatBound(w.value, q.quantity.written, entry.spec.kind, bound === 'min' ? 'at-most' : 'at-least'), text);
-        if (e) edits.push(e);
-      }
+  for (const f of result.findings) {
+    if (f.waived || !f.claim || f.verdict?.outcome !== 'fails') continue;
+    for (const fix of f.fixes ?? []) {
+      if (fix.kind !== 'restate' || !fix.edit) continue;
+      if (fix.bound !== 'typ' && !opts.bounds) continue;
+      if (fix.edit.text === text.slice(fix.edit.start, fix.edit.end)) continue;
+      edits.push({ start: fix.edit.start, end: fix.edit.end, text: fix.edit.text, claim: f.claim, bound: fix.bound, line: fix.edit.line });
     }
   }
   // Distinct, non-overlapping, in order.

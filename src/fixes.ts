@@ -1,14 +1,24 @@
-// Suggested fixes for a failing claim, every number computed by the model:
-// (a) the claim rewritten to what the design gives, in the author's unit and
-// precision; (b) the design changes that make the claim hold, each solved for
-// and re-evaluated through the model, then checked against the other claims.
+// Fixes for a failing claim, as data (SPEC-FORMAT §4), every number computed
+// by the model:
+// (a) `restate`: the claim rewritten to what the design gives, in the author's
+//     unit and precision, with the exact text edit, or the reason it is
+//     withheld (a prefix slip under it, a table row it would contradict);
+// (b) `design`: param changes that make the claim hold, each solved over the
+//     knob's whole plausible range, evaluated at the value as printed, and
+//     re-judged against every claim of the spec (every table row at its own
+//     conditions, bounds at their worst case) and the closed loop's stability;
+// (c) `none`: no value of any knob meets the claim, said with the range scanned.
+// The words of `suggestions` are rendered from these.
 
+import type { Fix, TextEdit } from './findings';
 import type { Model } from './model';
+import type { Judged } from './points';
 import { type Kind, type Written, formatLike, formatQuantity, parseQuantity } from './quantity';
-import type { RuleContext } from './rule';
-import type { ClaimEntry } from './spec/types';
-import type { Values } from './topologies/types';
-import { type BoundVerdict, THIN_FRACTION, holdsAll, judge, toleranceFor } from './verdict';
+import type { Recheck, RuleContext } from './rule';
+import { slippedParams } from './slips';
+import type { ClaimEntry, QuantityAt, Spec } from './spec/types';
+import type { KeySpec, Values } from './topologies/types';
+import { type BoundVerdict, THIN_FRACTION, judge, toleranceFor } from './verdict';
 
 /** Formats a bound so that, read back, it is still on the safe side of `value`. */
 export function formatBound(value: number, like: Written, kind: Kind, side: 'at-most' | 'at-least' | 'nearest'): string {
@@ -26,181 +36,337 @@ export function formatBound(value: number, like: Written, kind: Kind, side: 'at-
   return text;
 }
 
-const key = (entry: ClaimEntry, bound: 'typ' | 'min' | 'max', value: string): string =>
+const LEADING_NUMBER = /^[+\-\u2212]?(?:\d+\.?\d*|\.\d+)(?:[eE][+\-\u2212]?\d+)?/;
+const CELL = { typ: 'Typ', min: 'Min', max: 'Max' } as const;
+
+const claimText = (entry: ClaimEntry, bound: 'typ' | 'min' | 'max', value: string): string =>
   bound === 'typ' && entry.plain ? `\`${entry.key}: ${value}\`` : `\`${entry.key}: {${bound}: ${value}}\``;
 
-/** (a): restate the claim as the model gives it. */
-export function correctedClaim(entry: ClaimEntry, verdicts: BoundVerdict[], computed: number, where: string): string[] {
-  const out: string[] = [];
-  for (const v of verdicts) {
-    if (v.outcome !== 'fails') continue;
-    const written = entry[v.bound]!.quantity.written;
-    const side = v.bound === 'min' ? 'at-most' : v.bound === 'max' ? 'at-least' : 'nearest';
-    const text = formatBound(computed, written, entry.spec.kind, side);
-    if (entry.source === 'table') {
-      const cell = v.bound === 'typ' ? 'Typ' : v.bound === 'min' ? 'Min' : 'Max';
-      out.push(v.bound === 'typ'
-        ? `if the design is right, the ${cell} cell of \`${entry.label}\` should read \`${text}\` (model value at ${where})`
-        : `if the design stands, the ${cell} cell of \`${entry.label}\` the model supports is \`${text}\` (at ${where})`);
-      continue;
+/** The edit that replaces a statement's value, or null when its source cannot be edited as a plain span. */
+function editFor(spec: Spec, q: QuantityAt, text: string): TextEdit | null {
+  if (!q.span || !spec.lines) return null;
+  const replacement = q.span.numberOnly ? (text.match(LEADING_NUMBER)?.[0] ?? text) : text;
+  const start = spec.lines.pos(q.span.start);
+  const end = spec.lines.pos(q.span.end);
+  return { line: start.line, column: start.column, endLine: end.line, endColumn: end.column, start: q.span.start, end: q.span.end, text: replacement };
+}
+
+/** (a): restate the statement as the model gives it, or say why it is not restated. */
+export function restate(ctx: RuleContext, entry: ClaimEntry, v: BoundVerdict, computed: number, where: string): Fix {
+  const q = entry[v.bound]!;
+  const side = v.bound === 'min' ? 'at-most' : v.bound === 'max' ? 'at-least' : 'nearest';
+  const value = formatBound(computed, q.quantity.written, entry.spec.kind, side);
+  const text = entry.source === 'table'
+    ? v.bound === 'typ'
+      ? `if the design is right, the ${CELL[v.bound]} cell of \`${entry.label}\` should read \`${value}\` (model value at ${where})`
+      : `if the design stands, the ${CELL[v.bound]} cell of \`${entry.label}\` the model supports is \`${value}\` (at ${where})`
+    : v.bound === 'typ'
+      ? `if the design is right, the claim should read ${claimText(entry, 'typ', value)} (model value at ${where})`
+      : `if the design stands, the bound the model supports is ${claimText(entry, v.bound, value)} (at ${where})`;
+  // Never restate what rests on a value that is probably mistyped.
+  const slips = slippedParams(ctx.spec);
+  if (slips.length) return { kind: 'restate', text, bound: v.bound, edit: null, refused: `not restated: ${slips.join(', ')} looks like a prefix slip, and the figure rests on it; correct the param first` };
+  // Nor write a row whose cells would then contradict each other.
+  const back = parseQuantity(value, entry.spec.kind);
+  const newValue = back.ok ? back.quantity.value : computed;
+  const cells = { typ: entry.typ?.quantity.value, min: entry.min?.quantity.value, max: entry.max?.quantity.value, [v.bound]: newValue };
+  if ((cells.min !== undefined && cells.typ !== undefined && cells.min > cells.typ) || (cells.typ !== undefined && cells.max !== undefined && cells.typ > cells.max) || (cells.min !== undefined && cells.max !== undefined && cells.min > cells.max)) {
+    return { kind: 'restate', text, bound: v.bound, edit: null, refused: `not restated: ${value} would contradict the other statements of \`${entry.label ?? entry.key}\` (min ≤ typ ≤ max)` };
+  }
+  const edit = editFor(ctx.spec, q, value);
+  return edit ? { kind: 'restate', text, bound: v.bound, edit } : { kind: 'restate', text, bound: v.bound, edit: null, refused: 'not restated: the value is written in a form that cannot be edited in place' };
+}
+
+interface Statement {
+  entry: ClaimEntry;
+  bound: 'typ' | 'min' | 'max';
+}
+
+/** Does the statement hold (thin counts as holding) for this model? */
+function holds(ctx: RuleContext, s: Statement, model: Model | null, strict: boolean): boolean {
+  if (!model) return false;
+  const fig = model.exact[s.entry.key];
+  const only = { ...s.entry, typ: s.bound === 'typ' ? s.entry.typ : undefined, min: s.bound === 'min' ? s.entry.min : undefined, max: s.bound === 'max' ? s.entry.max : undefined };
+  const v = judge(only, fig?.value ?? null, fig, toleranceFor(s.entry.spec.kind, ctx.tolerances))[0];
+  // A bound is aimed clear of the thin-margin band, so the change is not itself flagged.
+  return strict && s.bound !== 'typ' ? v.outcome === 'holds' : v.outcome !== 'fails';
+}
+
+/** The value as it will be printed, read back: what the suggestion's reader would type in. */
+function printed(value: number, kind: Kind): { text: string; value: number } {
+  const text = formatQuantity(value, kind);
+  const back = parseQuantity(text, kind);
+  return { text, value: back.ok ? back.quantity.value : value };
+}
+
+/** The range a knob is searched over: its plausible range, within three decades of its value. */
+function knobRange(spec: KeySpec, now: number): [number, number] {
+  const [plo, phi] = spec.plausible ?? [now / 100, now * 100];
+  return [Math.max(plo, now / 1e3), Math.min(phi, now * 1e3)];
+}
+
+const PER_DECADE = 12;
+
+/**
+ * The value of one knob nearest its present value at which the statement
+ * holds at `at` (the typical point, or the worst point of a bound), on a log
+ * grid over the knob's whole plausible range (the figure may saturate, vanish
+ * or turn back), refined to the boundary and checked at the value as printed.
+ */
+function solveKnob(ctx: RuleContext, s: Statement, key: KeySpec, at: Values): { value: number; model: Model } | { closest: number } | null {
+  const nowRaw = at[key.key] ?? 0;
+  const now = nowRaw > 0 ? nowRaw : key.scale?.(at) ?? 0;
+  if (!(now > 0)) return null;
+  const [lo, hi] = knobRange(key, now);
+  if (!(hi > lo)) return null;
+  const model = (x: number) => ctx.withChanges({ ...at, [key.key]: x });
+  const ok = (x: number, strict = true) => holds(ctx, s, model(x), strict);
+  const n = Math.max(2, Math.ceil(Math.log10(hi / lo) * PER_DECADE));
+  const xs: number[] = [];
+  for (let i = 0; i <= n; i++) xs.push(lo * (hi / lo) ** (i / n));
+  const good = xs.map((x) => ok(x));
+  // Nearest holding grid point to the present value.
+  let best = -1;
+  for (let i = 0; i <= n; i++) if (good[i] && (best < 0 || Math.abs(Math.log(xs[i] / now)) < Math.abs(Math.log(xs[best] / now)))) best = i;
+  if (best < 0) {
+    // Nothing on the grid: the figure's nearest approach is reported.
+    let closest = 0;
+    let miss = Infinity;
+    for (let i = 0; i <= n; i++) {
+      const m = model(xs[i]);
+      const v = m?.exact[s.entry.key]?.value;
+      const target = s.entry[s.bound]!.quantity.value;
+      if (v !== null && v !== undefined && Math.abs(v - target) < miss) {
+        miss = Math.abs(v - target);
+        closest = xs[i];
+      }
     }
-    out.push(v.bound === 'typ'
-      ? `if the design is right, the claim should read ${key(entry, 'typ', text)} (model value at ${where})`
-      : `if the design stands, the bound the model supports is ${key(entry, v.bound, text)} (at ${where})`);
+    return { closest };
+  }
+  // Move from the holding point towards the present value as far as it keeps holding.
+  let inside = xs[best];
+  const towards = now < inside ? best - 1 : best + 1;
+  if (towards >= 0 && towards <= n && !good[towards] && !(xs[best] === now)) {
+    let outside = xs[towards];
+    for (let i = 0; i < 40 && Math.abs(Math.log(outside / inside)) > 1e-6; i++) {
+      const mid = Math.sqrt(inside * outside);
+      if (ok(mid)) inside = mid;
+      else outside = mid;
+    }
+  }
+  // A typical claim is aimed at its stated value, not at the edge of its tolerance.
+  if (s.bound === 'typ') {
+    const stated = s.entry.typ!.quantity.value;
+    const d = (x: number): number | null => {
+      const v = model(x)?.exact[s.entry.key]?.value;
+      return v === null || v === undefined ? null : v - stated;
+    };
+    let lo = best;
+    let hi = best;
+    while (lo > 0 && good[lo - 1]) lo--;
+    while (hi < n && good[hi + 1]) hi++;
+    // The holding run and its neighbours: the stated value may lie just past a grid point that holds.
+    const run = [inside, ...xs.slice(Math.max(0, lo - 1), Math.min(n, hi + 1) + 1)].sort((a, b) => Math.abs(Math.log(a / now)) - Math.abs(Math.log(b / now)));
+    const dInside = d(run[0]);
+    for (const x of run.slice(1)) {
+      const dx = d(x);
+      if (dInside === null || dx === null || dInside * dx > 0) continue;
+      let a = run[0];
+      let b = x;
+      let da = dInside;
+      for (let i = 0; i < 50 && Math.abs(Math.log(b / a)) > 1e-9; i++) {
+        const mid = Math.sqrt(a * b);
+        const dm = d(mid);
+        if (dm === null) break;
+        if (dm * da > 0) {
+          a = mid;
+          da = dm;
+        } else b = mid;
+      }
+      inside = Math.sqrt(a * b);
+      break;
+    }
+    const p = printed(inside, key.kind);
+    const m = model(p.value);
+    if (m && holds(ctx, s, m, false)) return { value: p.value, model: m };
+  }
+  // Printed to three digits: try the printed neighbours on the holding side.
+  for (const candidate of [inside, inside * (inside > now ? 1.001 : 0.999), inside * (inside > now ? 1.005 : 0.995), inside * (inside > now ? 1.02 : 0.98)]) {
+    const p = printed(candidate, key.kind);
+    const m = model(p.value);
+    if (m && holds(ctx, s, m, true)) return { value: p.value, model: m };
+  }
+  const p = printed(inside, key.kind);
+  const m = model(p.value);
+  return m && holds(ctx, s, m, false) ? { value: p.value, model: m } : null;
+}
+
+/** The written form of a statement's value, in its own unit: "21 MHz", "≥ 60 deg". */
+const statedText = (j: Judged): string => {
+  const q = j.entry[j.verdict.bound]!;
+  return `${j.verdict.bound === 'min' ? '≥ ' : j.verdict.bound === 'max' ? '≤ ' : ''}${q.quantity.written.text}`;
+};
+
+/** A figure in the unit the claim was written in. */
+const inOwnUnit = (j: Judged, value: number): string => formatLike(value, j.entry[j.verdict.bound]!.quantity.written, j.entry.spec.kind);
+
+function breaksOf(r: Recheck, target: Statement): Judged[] {
+  const seen = new Set<string>();
+  const out: Judged[] = [];
+  for (const j of r.judged) {
+    if (j.verdict.outcome !== 'fails') continue;
+    if (j.entry === target.entry || (j.entry.keyPos.line === target.entry.keyPos.line && j.entry.key === target.entry.key && j.verdict.bound === target.bound)) continue;
+    // Each broken statement once (a claim judged at several points is listed at the first).
+    const id = `${j.entry.key}:${j.entry.keyPos.line}:${j.verdict.bound}`;
+    if (seen.has(id)) continue;
+    seen.add(id);
+    out.push(j);
   }
   return out;
 }
 
-interface Solved {
-  changes: Values;
-  model: Model;
-  figure: number;
-  why?: string;
-}
-
-/** Where to aim: the typical value, or a bound plus the thin-margin allowance. */
-function targetOf(entry: ClaimEntry, verdicts: BoundVerdict[], kind: Kind, ctx: RuleContext): number | undefined {
-  const failing = verdicts.find((v) => v.outcome === 'fails');
-  if (!failing) return undefined;
-  const t = toleranceFor(kind, ctx.tolerances);
-  const margin = (c: number) => (t.relative ? Math.abs(c) * t.value : t.value) * THIN_FRACTION * 1.5;
-  if (failing.bound === 'typ') return failing.claimed;
-  return failing.bound === 'min' ? failing.claimed + margin(failing.claimed) : failing.claimed - margin(failing.claimed);
-}
-
-function figureAt(ctx: RuleContext, claim: string, changes: Values): { model: Model; value: number | null } | null {
-  const m = ctx.withChanges(changes);
-  return m ? { model: m, value: m.exact[claim]?.value ?? null } : null;
-}
-
-/** Solves for `param` so that the claim's figure meets `target`, nearest to the current value. */
-function solveParam(ctx: RuleContext, entry: ClaimEntry, param: string, base: number, target: number): Solved | null {
-  const spec = ctx.spec.topology.params.find((p) => p.key === param);
-  if (!spec) return null;
-  // A param at zero (no nulling resistor yet) is searched around its natural size.
-  if (!(base > 0)) base = spec.scale?.(ctx.model.values) ?? 0;
-  if (!(base > 0)) return null;
-  const f = (x: number): number | null => {
-    const r = figureAt(ctx, entry.key, { [param]: x });
-    return r && r.value !== null ? r.value - target : null;
+function designFix(ctx: RuleContext, target: Statement, changes: Values, why: string | undefined, r: Recheck): Fix {
+  const topo = ctx.spec.topology;
+  const kindOf = (k: string) => topo.params.find((p) => p.key === k)?.kind ?? 'ratio';
+  const now = ctx.model.values;
+  const changeText = Object.entries(changes).map(([k, v]) => `${k} = ${formatQuantity(v, kindOf(k))}`).join(' and ');
+  const nowText = Object.keys(changes).map((k) => (now[k] === undefined || now[k] === 0 ? 'now none' : `now ${formatQuantity(now[k], kindOf(k))}`)).join(', ');
+  const gives: Record<string, number | null> = {};
+  for (const c of ctx.spec.claims) if (!(c.key in gives)) gives[c.key] = r.front?.exact[c.key]?.value ?? null;
+  const self = r.judged.find((j) => j.entry === target.entry && j.verdict.bound === target.bound)
+    ?? r.judged.find((j) => j.entry.key === target.entry.key && j.verdict.bound === target.bound && j.entry.keyPos.line === target.entry.keyPos.line);
+  const broken = breaksOf(r, target);
+  const selfHolds = self ? self.verdict.outcome !== 'fails' : false;
+  const meetsAll = selfHolds && broken.length === 0 && r.stable;
+  const selfFigure = self?.label === 'typical' ? r.front?.exact[target.entry.key] : undefined;
+  const selfText = self && self.value !== null ? inOwnUnit(self, self.value) : selfFigure?.unbounded ? 'an unbounded margin (no gain increase reaches −1)' : 'no value';
+  const effects: string[] = [];
+  if (!selfHolds && self) effects.push(`the claim itself still fails over the ranges (${selfText} at ${self.label})`);
+  for (const b of broken) effects.push(`${b.entry.key}${b.entry.source === 'table' ? ` (${b.entry.label}, line ${b.entry.keyPos.line})` : ''} ${b.value === null ? 'has no value' : `becomes ${inOwnUnit(b, b.value)}`}${b.label !== 'typical' ? ` at ${b.label}` : ''} (claimed ${statedText(b)})`);
+  if (!r.stable) effects.push('the closed loop is not stable at every operating point');
+  const effect = effects.length === 0 ? 'and the other claims still hold' : `but then ${effects.join('; ')}`;
+  const text = `${changeText} (${nowText}${why ? `; ${why}` : ''}) gives ${selfText}, ${effect}`;
+  return {
+    kind: 'design',
+    text,
+    changes,
+    gives,
+    stable: r.stable,
+    meetsAll,
+    breaks: broken.map((b) => ({ claim: b.entry.key, line: b.entry.keyPos.line, value: b.value })),
   };
-  // Scan two decades either side on a log grid, then bisect the bracket nearest the current value.
-  const steps = 8;
-  const grid: Array<{ x: number; d: number | null }> = [];
-  for (let i = -steps; i <= steps; i++) {
-    const x = base * 10 ** ((2 * i) / steps);
-    grid.push({ x, d: f(x) });
+}
+
+/** Where a statement is judged now: the typical point, or the worst point of its bound. */
+const worstValues = (r: Recheck | undefined, s: Statement, fallback: Values): Values =>
+  r?.judged.find((j) => j.entry.key === s.entry.key && j.verdict.bound === s.bound && j.entry.keyPos.line === s.entry.keyPos.line)?.values ?? fallback;
+
+/** (b) and (c): design changes that make the statement hold, each re-judged against the whole spec. */
+export function designChanges(ctx: RuleContext, entry: ClaimEntry, v: BoundVerdict, at: Values): Fix[] {
+  const topo = ctx.spec.topology;
+  const kind = entry.spec.kind;
+  // A design that beats its typical claim is not to be made worse: only the claim is stale.
+  const current = ctx.model.exact[entry.key]?.value;
+  if (v.bound === 'typ' && current !== null && current !== undefined && entry.spec.better) {
+    if (entry.spec.better === 'higher' ? current > v.claimed : current < v.claimed) return [];
   }
-  let best: [number, number] | null = null;
-  let bestDist = Infinity;
-  for (let i = 1; i < grid.length; i++) {
-    const a = grid[i - 1];
-    const b = grid[i];
-    if (a.d === null || b.d === null || a.d * b.d > 0) continue;
-    const dist = Math.min(Math.abs(Math.log(a.x / base)), Math.abs(Math.log(b.x / base)));
-    if (dist < bestDist) {
-      bestDist = dist;
-      best = [a.x, b.x];
+  if (!ctx.recheck) return [];
+  const target: Statement = { entry, bound: v.bound };
+  const fixes: Fix[] = [];
+  const tried = new Set<string>();
+  const add = (changes: Values, why?: string): Fix | null => {
+    const key = JSON.stringify(changes);
+    if (tried.has(key)) return null;
+    tried.add(key);
+    const f = designFix(ctx, target, changes, why, ctx.recheck!(changes));
+    fixes.push(f);
+    return f;
+  };
+  // Closed-form hints of the topology, printed and then checked like the rest.
+  for (const hint of topo.hints(entry.key, ctx.model.values)) {
+    const changes: Values = {};
+    for (const [k, x] of Object.entries(hint.changes)) changes[k] = printed(x, topo.params.find((p) => p.key === k)?.kind ?? 'ratio').value;
+    if (holds(ctx, target, ctx.withChanges({ ...at, ...changes }), false)) add(changes, hint.why);
+  }
+  const knobs = (topo.knobs[entry.key] ?? []).map((k) => topo.params.find((p) => p.key === k)).filter((k): k is KeySpec => k !== undefined);
+  const unmet: Array<{ key: KeySpec; closest: number }> = [];
+  for (const key of knobs) {
+    // Solved where the statement is judged; for a bound over ranges, judged
+    // again over the whole box, and solved again at the new worst point.
+    let where = at;
+    for (let round = 0; round < 3; round++) {
+      const s = solveKnob(ctx, target, key, where);
+      if (!s) break;
+      if ('closest' in s) {
+        unmet.push({ key, closest: s.closest });
+        break;
+      }
+      const changes = { [key.key]: s.value };
+      const r = ctx.recheck(changes);
+      const self = r.judged.find((j) => j.entry.key === entry.key && j.verdict.bound === v.bound && j.entry.keyPos.line === entry.keyPos.line);
+      if (!self || self.verdict.outcome !== 'fails' || round === 2) {
+        add(changes);
+        break;
+      }
+      where = { ...worstValues(r, target, at), [key.key]: s.value };
     }
   }
-  if (!best) return null;
-  // Illinois (regula falsi that keeps the bracket) on log x: a few evaluations instead of thirty.
-  let [a, b] = best.map(Math.log) as [number, number];
-  let fa = f(Math.exp(a))!;
-  let fb = f(Math.exp(b))!;
-  for (let i = 0; i < 30 && Math.abs(b - a) > 1e-6; i++) {
-    let x = b - (fb * (b - a)) / (fb - fa);
-    if (!(x > Math.min(a, b) && x < Math.max(a, b))) x = 0.5 * (a + b);
-    const fx = f(Math.exp(x));
-    if (fx === null) return null;
-    if (fx === 0) {
-      a = b = x;
-      break;
-    }
-    if (fx * fb < 0) {
-      a = b;
-      fa = fb;
-    } else fa /= 2;
-    b = x;
-    fb = fx;
+  // No single knob meets every claim: try them in pairs, nearest first.
+  if (!fixes.some((f) => f.kind === 'design' && f.meetsAll) && knobs.length >= 2) {
+    const pair = solvePair(ctx, target, knobs.slice(0, 3), at);
+    if (pair) add(pair);
   }
-  const lo = Math.exp(Math.min(a, b));
-  const hi = Math.exp(Math.max(a, b));
-  const x = Math.sqrt(lo * hi);
-  // Round to three digits on whichever side keeps the claim, re-evaluating both.
-  const e = 10 ** (Math.floor(Math.log10(x)) - 2);
-  for (const candidate of [Math.round(x / e) * e, Math.floor(x / e) * e, Math.ceil(x / e) * e, x]) {
-    const r = figureAt(ctx, entry.key, { [param]: candidate });
-    if (!r) continue;
-    const ok = holdsAll(judge(entry, r.value, r.model.exact[entry.key], toleranceFor(entry.spec.kind, ctx.tolerances)));
-    if (ok && r.value !== null) return { changes: { [param]: candidate }, model: r.model, figure: r.value };
+  if (!fixes.length && knobs.length) {
+    const range: Record<string, [number, number]> = {};
+    for (const k of knobs) {
+      const now = at[k.key] > 0 ? at[k.key] : k.scale?.(at) ?? 0;
+      if (now > 0) range[k.key] = knobRange(k, now);
+    }
+    const span = Object.entries(range).map(([k, [lo, hi]]) => `${k} from ${formatQuantity(lo, topo.params.find((p) => p.key === k)!.kind)} to ${formatQuantity(hi, topo.params.find((p) => p.key === k)!.kind)}`).join(', ');
+    const closest = unmet.length ? `; the nearest approach is at ${unmet.map((u) => `${u.key.key} = ${formatQuantity(u.closest, u.key.kind)}`).join(', ')}` : '';
+    fixes.push({ kind: 'none', text: `no single value of ${knobs.map((k) => k.key).join(' or ')} (scanned ${span}, ${PER_DECADE} points a decade, refined) meets the claim on its own${closest}`, knobs: knobs.map((k) => k.key), range });
+  } else if (fixes.length && !fixes.some((f) => f.kind === 'design' && f.meetsAll)) {
+    const conflicts = [...new Set(fixes.flatMap((f) => (f.kind === 'design' ? f.breaks.map((b) => b.claim) : [])))];
+    const names = [...new Set(fixes.flatMap((f) => (f.kind === 'design' ? Object.keys(f.changes) : [])))];
+    fixes.push({ kind: 'none', text: `no change of ${names.join(', ')} tried (alone, or two together) meets every claim${conflicts.length ? `: ${entry.key} conflicts with ${conflicts.join(', ')}` : ''}`, knobs: names, range: {} });
+  }
+  void kind;
+  void THIN_FRACTION;
+  return fixes;
+}
+
+/**
+ * Two knobs at once: a log grid of each over a factor of 10 either way, the
+ * holding points nearest the present design judged against the whole spec,
+ * the first that meets every claim returned.
+ */
+function solvePair(ctx: RuleContext, target: Statement, knobs: KeySpec[], at: Values): Values | null {
+  const steps = [-1, -0.75, -0.5, -0.3, -0.15, 0, 0.15, 0.3, 0.5, 0.75, 1];
+  const candidates: Array<{ changes: Values; distance: number }> = [];
+  for (let i = 0; i < knobs.length; i++) {
+    for (let j = i + 1; j < knobs.length; j++) {
+      const a = knobs[i];
+      const b = knobs[j];
+      const na = at[a.key] > 0 ? at[a.key] : a.scale?.(at) ?? 0;
+      const nb = at[b.key] > 0 ? at[b.key] : b.scale?.(at) ?? 0;
+      if (!(na > 0 && nb > 0)) continue;
+      for (const ea of steps) {
+        for (const eb of steps) {
+          if (ea === 0 || eb === 0) continue; // single-knob changes were tried already
+          const changes = { [a.key]: printed(na * 10 ** ea, a.kind).value, [b.key]: printed(nb * 10 ** eb, b.kind).value };
+          if (holds(ctx, target, ctx.withChanges({ ...at, ...changes }), true)) candidates.push({ changes, distance: Math.abs(ea) + Math.abs(eb) });
+        }
+      }
+    }
+  }
+  candidates.sort((x, y) => x.distance - y.distance);
+  for (const c of candidates.slice(0, 8)) {
+    const r = ctx.recheck!(c.changes);
+    if (r.stable && r.judged.every((j) => j.verdict.outcome !== 'fails')) return c.changes;
   }
   return null;
 }
 
-/** Claims of the document that fail under a changed design, e.g. "gbw 14.9 MHz (claimed 23 MHz)". */
-export function brokenClaims(ctx: RuleContext, model: Model, except: string): Array<{ key: string; text: string }> {
-  const out: Array<{ key: string; text: string }> = [];
-  for (const c of ctx.spec.claims) {
-    if (c.key === except) continue;
-    const fig = model.exact[c.key];
-    const verdicts = judge(c, fig?.value ?? null, fig, toleranceFor(c.spec.kind, ctx.tolerances));
-    if (holdsAll(verdicts)) continue;
-    const claimed = [c.typ && c.typ.quantity.written.text, c.min && `≥ ${c.min.quantity.written.text}`, c.max && `≤ ${c.max.quantity.written.text}`].filter(Boolean).join(', ');
-    out.push({ key: c.key, text: `${c.key} ${fig?.value === null || fig === undefined ? 'has no value' : `becomes ${formatQuantity(fig.value, c.spec.kind)}`} (claimed ${claimed})` });
-  }
-  return out;
-}
-
-/** (b): design changes that make the claim hold, with their effect on the other claims. */
-export function designChanges(ctx: RuleContext, entry: ClaimEntry, verdicts: BoundVerdict[]): string[] {
-  const kind = entry.spec.kind;
-  const target = targetOf(entry, verdicts, kind, ctx);
-  if (target === undefined) return [];
-  // A design that beats its typical claim is not to be made worse: only the claim is stale.
-  const current = ctx.model.exact[entry.key]?.value;
-  const failing = verdicts.find((v) => v.outcome === 'fails');
-  if (failing?.bound === 'typ' && current !== null && current !== undefined && entry.spec.better) {
-    if (entry.spec.better === 'higher' ? current > failing.claimed : current < failing.claimed) return [];
-  }
-  const values = ctx.model.values;
-  const topo = ctx.spec.topology;
-  const solved: Solved[] = [];
-  for (const hint of topo.hints(entry.key, values)) {
-    const r = figureAt(ctx, entry.key, hint.changes);
-    if (!r) continue;
-    if (holdsAll(judge(entry, r.value, r.model.exact[entry.key], toleranceFor(kind, ctx.tolerances))) && r.value !== null) {
-      solved.push({ changes: hint.changes, model: r.model, figure: r.value, why: hint.why });
-    }
-  }
-  for (const param of topo.knobs[entry.key] ?? []) {
-    // Aim a little past a bound; if that is out of reach, the bound itself.
-    const s = solveParam(ctx, entry, param, values[param] ?? 0, target) ?? (failing && failing.bound !== 'typ' ? solveParam(ctx, entry, param, values[param] ?? 0, failing.claimed) : null);
-    if (s) solved.push(s);
-  }
-  const out: string[] = [];
-  const conflicts = new Set<string>();
-  let anyClean = false;
-  for (const s of solved) {
-    const change = Object.entries(s.changes).map(([param, value]) => {
-      const kind = topo.params.find((p) => p.key === param)?.kind ?? 'ratio';
-      const now = values[param];
-      const nowText = now === undefined || now === 0 ? 'now none' : `now ${formatQuantity(now, kind)}`;
-      return { text: `${param} = ${formatQuantity(value, kind)}`, nowText };
-    });
-    const why = s.why ? `; ${s.why}` : '';
-    const broken = brokenClaims(ctx, s.model, entry.key);
-    const effect = broken.length === 0 ? 'and the other claims still hold' : `but then ${broken.map((b) => b.text).join('; ')}`;
-    broken.forEach((b) => conflicts.add(b.key));
-    if (broken.length === 0) anyClean = true;
-    out.push(`${change.map((c) => c.text).join(' and ')} (${change.map((c) => c.nowText).join(', ')}${why}) gives ${formatQuantity(s.figure, kind)}, ${effect}`);
-  }
-  if (solved.length && !anyClean) {
-    const tried = [...new Set(solved.flatMap((s) => Object.keys(s.changes)))].join(', ');
-    out.push(`no single change of ${tried} meets every claim: ${entry.key} conflicts with ${[...conflicts].join(', ')}`);
-  }
-  if (!solved.length && (topo.knobs[entry.key]?.length ?? 0) > 0) {
-    out.push(`no value of ${topo.knobs[entry.key].join(' or ')} within a factor of 100 meets the claim on its own`);
-  }
-  return out;
-}
+/** Suggestions in words, rendered from the fixes. */
+export const renderFixes = (fixes: Fix[]): string[] =>
+  fixes.map((f) => (f.kind === 'restate' && f.refused ? `${f.text} — ${f.refused}` : f.text));

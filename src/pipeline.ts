@@ -83,6 +83,7 @@ export function readDocument(path: string, raw: string): ReadResult {
   if (!parsed.root || parsed.root.kind !== 'map' || !parsed.root.entries.some((e) => e.key === 'polecheck')) return { kind: 'skipped' };
   const { spec, findings } = readSpec(path, parsed.root, index.pos(start));
   if (spec) {
+    spec.lines = index;
     const tables = readTables(tree as never, spec.topology);
     spec.claims.push(...tables.claims);
     findings.push(...tables.findings);

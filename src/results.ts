@@ -5,7 +5,6 @@
 import type { FileResult, OperatingPoint } from './check';
 import type { Figure } from './engine/figure';
 import type { ClaimEntry } from './spec/types';
-import { worstCase } from './worst-case';
 
 export interface BoundResult {
   bound: 'typ' | 'min' | 'max';
@@ -28,21 +27,19 @@ export function claimResults(r: FileResult): ClaimResult[] {
   for (const point of r.points ?? []) {
     const ctx = point.context;
     for (const entry of point.claims) {
-      const bounds: BoundResult[] = [];
-      if (entry.typ) {
-        const f = ctx.model.exact[entry.key];
-        bounds.push({ bound: 'typ', value: f?.value ?? null, figure: f, corner: 'typical' });
-      }
-      for (const b of ['min', 'max'] as const) {
-        if (!entry[b]) continue;
-        const w = worstCase(ctx, entry.key, b);
-        bounds.push({ bound: b, value: w.value, figure: w.figure, corner: w.label });
-      }
-      // The statement's own findings are those of its claim at its cells.
+      // The figures each statement was judged against, as the check computed them.
+      const mine = (r.statements ?? []).filter((j) => j.entry === entry && j.point === point);
+      const bounds: BoundResult[] = mine.map((j) => ({
+        bound: j.verdict.bound,
+        value: j.value,
+        figure: j.verdict.bound === 'typ' ? ctx.model.exact[entry.key] : ctx.withChanges(j.values)?.exact[entry.key],
+        corner: j.label,
+      }));
+      // The statement's verdict is its findings' (the claim rules decided it): none means it holds.
       const places = entry.source === 'table' ? [entry.typ, entry.min, entry.max].filter(Boolean).map((q) => q!.pos) : [entry.keyPos];
       const cells = new Set(places.map((q) => `${q.line}:${q.column}`));
-      const own = r.findings.filter((f) => f.claim === entry.key && cells.has(`${f.line}:${f.column}`) && f.rule !== 'hand-estimate-drift');
-      const verdict = own.some((f) => f.severity === 'error') ? 'fails' : own.some((f) => f.severity === 'warning') ? 'thin' : 'holds';
+      const own = r.findings.filter((f) => f.claim === entry.key && f.verdict && cells.has(`${f.line}:${f.column}`));
+      const verdict = own.some((f) => f.verdict!.outcome === 'fails') ? 'fails' : own.some((f) => f.verdict!.outcome === 'thin') ? 'thin' : 'holds';
       out.push({ entry, point, bounds, hand: ctx.model.hand[entry.key], verdict });
     }
   }

@@ -4,6 +4,7 @@
 import type { Evaluated } from './evaluation';
 import type { Finding, Severity } from './findings';
 import type { Model } from './model';
+import type { Judged } from './points';
 import type { Spec } from './spec/types';
 import type { Values } from './topologies/types';
 import type { Tolerances } from './verdict';
@@ -19,6 +20,16 @@ export interface RuleContext {
   tolerances: Tolerances;
   /** The typical point with some values changed, re-evaluated; null when the network cannot be solved. */
   withChanges(changes: Values): Model | null;
+  /** The whole spec (every operating point, bounds at their worst case) judged again with params changed; memoized per file. */
+  recheck?(changes: Values): Recheck;
+}
+
+export interface Recheck {
+  judged: Judged[];
+  /** The closed loop is stable at every operating point and at the worst points of the bounds. */
+  stable: boolean;
+  /** The model at the front matter's typical point with the change. */
+  front: Model | null;
 }
 
 export type Draft = Omit<Finding, 'rule' | 'severity' | 'suggestions'> & { severity?: Severity; suggestions?: string[] };

@@ -1,6 +1,6 @@
 import type { Quantity } from '../quantity';
 import type { ClaimSpec, KeySpec, Topology, Values } from '../topologies/types';
-import type { Pos } from './position';
+import type { LineIndex, Pos } from './position';
 
 export interface QuantityAt {
   quantity: Quantity;
@@ -78,4 +78,6 @@ export interface Spec {
   /** Position of the `params:` key, for findings about missing params. */
   paramsPos: Pos;
   waivers: Waiver[];
+  /** Offsets → lines and columns of the text as read, for the edits a restatement proposes. */
+  lines?: LineIndex;
 }
