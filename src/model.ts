@@ -185,7 +185,8 @@ function rootFigures(analysis: NetworkAnalysis, key: string): Record<string, Fig
   return {
     rhp_zero: rhp.length
       ? lazyFigure(rootHz(rhp[0]), 'Hz', 'exact-roots', () => `lowest right-half-plane zero of A(s); zeros: ${zerosText()}`, rhp[0].im !== 0 ? ['the right-half-plane zeros are a complex pair'] : undefined)
-      : missing('Hz', 'exact-roots', `zeros of A(s): ${zerosText()}`, zeros.length ? 'A(s) has no zero in the right half-plane' : 'A(s) has no finite zero'),
+      // No right-half-plane zero: as far off as a zero can be, so a lower bound on it holds (and a value or an upper bound fails).
+      : { ...missing('Hz', 'exact-roots', `zeros of A(s): ${zerosText()}`, zeros.length ? 'A(s) has no zero in the right half-plane' : 'A(s) has no finite zero'), unbounded: true },
   };
 }
 

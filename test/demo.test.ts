@@ -66,7 +66,7 @@ describe('demo specs', () => {
       '23:3 error slew-rate',
     ]);
     // The slew rate is i1/cc = 16 µA / 0.9 pF = 17.8 V/µs (Allen & Holberg's
-    // two-stage slew limit; the load term (i2 − i1)/cl = 20.8 V/µs is higher).
+    // two-stage slew limit; the load term (i2 − i1)/(c2 + cl) is higher).
     const sr = r.findings.find((f) => f.rule === 'slew-rate')!;
     expect(sr.computed).toBeCloseTo(16e-6 / 0.9e-12, 0);
     // The phase-margin finding offers a larger cc, re-evaluated by the model.

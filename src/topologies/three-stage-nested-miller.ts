@@ -114,6 +114,10 @@ export const threeStageNestedMiller: Topology = {
       caveats.push(`the compensation is far from the Butterworth placement (cc1 = ${formatQuantity(bw.changes.cc1, 'capacitance')}, cc2 = ${formatQuantity(bw.changes.cc2, 'capacitance')}), where the hand formulas are least reliable`);
     }
     if (exact.p2?.notes?.some((n) => n.includes('complex'))) caveats.push('the non-dominant poles are a complex pair, as nested-Miller designs usually have: p2 is their magnitude');
+    // The nested-Miller estimates take the inner loop's zero and poles as
+    // well behaved, which needs gm3 > gm2; with gm3 ≤ gm2 the open loop may
+    // itself have right-half-plane poles, and the hand figures say nothing.
+    if (v.gm3 <= v.gm2) caveats.push(`gm3 (${formatQuantity(v.gm3, 'conductance')}) is not above gm2 (${formatQuantity(v.gm2, 'conductance')}): the inner Miller loop can leave right-half-plane poles in the open loop, and the hand formulas do not hold`);
     return { figures, caveats };
   },
 

@@ -68,7 +68,8 @@ export const twoStageMiller: Topology = {
   beta: (v) => v.beta ?? 1,
 
   largeSignal(v: Values): Record<string, Figure> {
-    const how = 'SR = min(i1/cc, (i2 − i1)/cl)';
+    // The output node's whole capacitance is slewed: the load and the node's own parasitic (c2 + cl).
+    const how = 'SR = min(i1/cc, (i2 − i1)/(c2 + cl))';
     if (v.i1 === undefined || v.i2 === undefined) {
       return { slew_rate: missing('V/s', 'large-signal', how, 'needs the bias currents i1 and i2') };
     }
@@ -77,9 +78,10 @@ export const twoStageMiller: Topology = {
     if (v.i2 <= v.i1) {
       return { slew_rate: missing('V/s', 'large-signal', how, `i2 (${formatQuantity(v.i2, 'current')}) must exceed i1 (${formatQuantity(v.i1, 'current')}) for the output stage to slew the load`) };
     }
-    const external = cl > 0 ? (v.i2 - v.i1) / cl : Infinity;
+    const cOut = (v.c2 ?? 0) + cl;
+    const external = cOut > 0 ? (v.i2 - v.i1) / cOut : Infinity;
     const sr = Math.min(internal, external);
-    const limit = internal <= external ? 'limited by i1/cc (the first stage charging cc)' : 'limited by (i2 − i1)/cl (the output stage charging the load)';
+    const limit = internal <= external ? 'limited by i1/cc (the first stage charging cc)' : 'limited by (i2 − i1)/(c2 + cl) (the output stage charging the output node)';
     return { slew_rate: figure(sr, 'V/s', 'large-signal', `${how}: ${limit}`) };
   },
 
@@ -117,6 +119,10 @@ export const twoStageMiller: Topology = {
     const egbw = exact.gbw?.value;
     if (egbw && ep2 && egbw / ep2 > 0.5) caveats.push(`the one-pole picture of GBW assumes GBW ≪ p2; here GBW/p2 = ${(egbw / ep2).toPrecision(2)}`);
     if (exact.p2?.notes?.some((n) => n.includes('complex'))) caveats.push('the exact non-dominant poles are a complex pair; the real-pole estimates do not describe them');
+    // Pole splitting needs a second stage with real gain: with gm2·r2' near 1 the
+    // Miller multiplication of cc is small and GBW ≈ gm1/cc no longer follows.
+    const a2 = v.gm2 * r2l;
+    if (a2 < 10) caveats.push(`the second stage's gain gm2·r2' = ${a2.toPrecision(2)} is small: pole splitting assumes gm2·r2' ≫ 1, and the GBW and phase-margin estimates do not hold`);
     const p3 = rz > 0 ? 1 / (TWO_PI * rz * v.c1) : Infinity;
     if (egbw && p3 < 10 * beta * egbw) caveats.push(`rz adds a third pole p3 ≈ 1/(2π·rz·c1) = ${formatQuantity(p3, 'frequency')}, within ten times the crossover; the two-pole estimates ignore it`);
     return { figures, caveats };

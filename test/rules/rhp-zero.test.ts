@@ -44,8 +44,14 @@ const rows: Row[] = [
     expected: () => [{ severity: 'error', at: { claim: 'rhp_zero' }, computed: null, says: ['gives no right-half-plane zero', 'no zero in the right half-plane'] }],
   },
   {
-    name: 'rz > 1/gm2 and a min bound: a missing figure fails a min bound too',
+    // No right-half-plane zero at all satisfies any lower bound on it (the zero moved to the left half-plane).
+    name: 'rz > 1/gm2 and a min bound: no right-half-plane zero, so the lower bound holds',
     spec: variant({ rhp_zero: '{min: 1 GHz}' }, { params: { rz: '1 kΩ' } }),
+    expected: () => [],
+  },
+  {
+    name: 'rz > 1/gm2 and a max bound: no right-half-plane zero fails an upper bound',
+    spec: variant({ rhp_zero: '{max: 1 GHz}' }, { params: { rz: '1 kΩ' } }),
     expected: () => [{ severity: 'error', at: { claim: 'rhp_zero', needle: '1 GHz' }, computed: null }],
   },
   { name: 'a min bound with room', spec: variant({ rhp_zero: '{min: 250 MHz}' }), expected: () => [] },

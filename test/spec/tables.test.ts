@@ -118,14 +118,14 @@ describe('datasheet tables', () => {
 `);
     const f = r.findings.map((x) => `${x.line}:${x.column} ${x.severity} ${x.rule}`);
     // 3 pF holds (72°); at 20 pF the phase margin falls well below 60° and the
-    // slew rate becomes (i2 − i1)/cl = 176 µA / 20 pF = 8.8 V/µs (Allen & Holberg).
+    // slew rate becomes (i2 − i1)/(c2 + cl) = 176 µA / (150 fF + 20 pF) = 8.73 V/µs (Allen & Holberg).
     expect(f).toContain('22:31 error phase-margin');
     expect(f).toContain('23:30 error slew-rate');
     expect(f.some((x) => x.startsWith('21:'))).toBe(false);
     const sr = r.findings.find((x) => x.rule === 'slew-rate')!;
-    expect(sr.computed).toBeCloseTo(176e-6 / 20e-12, 0);
+    expect(sr.computed).toBeCloseTo(176e-6 / (150e-15 + 20e-12), 0);
     expect(sr.message).toContain('cl = 20.0 pF');
-    expect(sr.suggestions[0]).toMatch(/the Typ cell of `Slew rate` should read `8.8 V\/µs`/);
+    expect(sr.suggestions[0]).toMatch(/the Typ cell of `Slew rate` should read `8.7 V\/µs`/);
   });
 
   it('reports a claim stated twice at the same conditions with values that cannot both hold', () => {

@@ -14,7 +14,7 @@
 //   a1 = r1(c1 + cc) + r2'(c2' + cc) + gm2·r1·r2'·cc,
 //   a2 = r1·r2'·(c1·c2' + cc·(c1 + c2')),   c2' = c2 + cl,  r2' = r2 ∥ rl.
 // The zero is exactly s = gm2/(cc·(1 − gm2·rz)); the slew rate is
-// min(i1/cc, (i2 − i1)/cl) (Allen & Holberg, "CMOS Analog Circuit Design", ch. 6).
+// min(i1/cc, (i2 − i1)/(c2 + cl)), the output node's total capacitance (Allen & Holberg, "CMOS Analog Circuit Design", ch. 6).
 
 export interface Design {
   gm1: number; r1: number; c1: number; gm2: number; r2: number; c2: number; cc: number;
@@ -83,8 +83,8 @@ export function rhpZeroHz(d: Design): number | null {
 
 export function slewRate(d: Design): number {
   if (d.i1 === undefined || d.i2 === undefined) throw new Error('needs i1, i2');
-  const cl = d.cl ?? 0;
-  return Math.min(d.i1 / d.cc, cl > 0 ? (d.i2 - d.i1) / cl : Infinity);
+  const cOut = (d.c2 ?? 0) + (d.cl ?? 0);
+  return Math.min(d.i1 / d.cc, cOut > 0 ? (d.i2 - d.i1) / cOut : Infinity);
 }
 
 /** Log grid from 1 mHz to 1 THz·100, fine enough that the phase step between points is small. */
