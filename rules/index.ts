@@ -2,6 +2,7 @@
 
 import type { Rule } from '../src/rule';
 import bandwidth from './bandwidth';
+import closedLoopStability from './closed-loop-stability';
 import compensationSizing from './compensation-sizing';
 import conflictingClaims from './conflicting-claims';
 import dcGain from './dc-gain';
@@ -26,6 +27,7 @@ export const RULES: readonly Rule[] = [
   rhpZero,
   phaseMargin,
   gainMargin,
+  closedLoopStability,
   slewRate,
   bandwidth,
   inputCapacitance,

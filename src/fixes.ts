@@ -105,7 +105,7 @@ function knobRange(spec: KeySpec, now: number): [number, number] {
   return [Math.max(plo, now / 1e3), Math.min(phi, now * 1e3)];
 }
 
-const PER_DECADE = 12;
+const PER_DECADE = 6;
 
 /**
  * The value of one knob nearest its present value at which the statement
@@ -129,26 +129,57 @@ function solveKnob(ctx: RuleContext, s: Statement, key: KeySpec, at: Values): { 
   let best = -1;
   for (let i = 0; i <= n; i++) if (good[i] && (best < 0 || Math.abs(Math.log(xs[i] / now)) < Math.abs(Math.log(xs[best] / now)))) best = i;
   if (best < 0) {
-    // Nothing on the grid: the figure's nearest approach is reported.
-    let closest = 0;
-    let miss = Infinity;
-    for (let i = 0; i <= n; i++) {
-      const m = model(xs[i]);
-      const v = m?.exact[s.entry.key]?.value;
-      const target = s.entry[s.bound]!.quantity.value;
-      if (v !== null && v !== undefined && Math.abs(v - target) < miss) {
-        miss = Math.abs(v - target);
-        closest = xs[i];
+    // Nothing on the grid holds: search between the neighbours of the nearest
+    // approach (golden section on the distance from holding, in tolerances),
+    // so that a window narrower than the grid is not missed there.
+    const miss = (x: number): number => {
+      const m = model(x);
+      const fig = m?.exact[s.entry.key];
+      const only = { ...s.entry, typ: s.bound === 'typ' ? s.entry.typ : undefined, min: s.bound === 'min' ? s.entry.min : undefined, max: s.bound === 'max' ? s.entry.max : undefined };
+      const t = toleranceFor(s.entry.spec.kind, ctx.tolerances);
+      const v = judge(only, fig?.value ?? null, fig, t)[0];
+      if (!Number.isFinite(v.delta)) return Infinity;
+      const d = t.relative ? v.delta / (Math.abs(v.claimed) * t.value) : v.delta / t.value;
+      return s.bound === 'typ' ? Math.abs(d) - 1 : s.bound === 'min' ? -d : d;
+    };
+    const misses = xs.map(miss);
+    let k = 0;
+    for (let i = 1; i <= n; i++) if (misses[i] < misses[k]) k = i;
+    if (!Number.isFinite(misses[k])) return { closest: xs[k] };
+    let a = Math.log(xs[Math.max(0, k - 1)]);
+    let b = Math.log(xs[Math.min(n, k + 1)]);
+    const phi = (Math.sqrt(5) - 1) / 2;
+    let c = b - phi * (b - a);
+    let d = a + phi * (b - a);
+    let mc = miss(Math.exp(c));
+    let md = miss(Math.exp(d));
+    for (let i = 0; i < 16 && mc > 0 && md > 0; i++) {
+      if (mc < md) {
+        b = d;
+        d = c;
+        md = mc;
+        c = b - phi * (b - a);
+        mc = miss(Math.exp(c));
+      } else {
+        a = c;
+        c = d;
+        mc = md;
+        d = a + phi * (b - a);
+        md = miss(Math.exp(d));
       }
     }
-    return { closest };
+    const x = mc <= md ? Math.exp(c) : Math.exp(d);
+    if (Math.min(mc, md) > 0) return { closest: x };
+    const p = printed(x, key.kind);
+    const m = model(p.value);
+    return m && holds(ctx, s, m, false) ? { value: p.value, model: m } : { closest: x };
   }
   // Move from the holding point towards the present value as far as it keeps holding.
   let inside = xs[best];
   const towards = now < inside ? best - 1 : best + 1;
   if (towards >= 0 && towards <= n && !good[towards] && !(xs[best] === now)) {
     let outside = xs[towards];
-    for (let i = 0; i < 40 && Math.abs(Math.log(outside / inside)) > 1e-6; i++) {
+    for (let i = 0; i < 24 && Math.abs(Math.log(outside / inside)) > 2e-4; i++) {
       const mid = Math.sqrt(inside * outside);
       if (ok(mid)) inside = mid;
       else outside = mid;
@@ -174,7 +205,7 @@ function solveKnob(ctx: RuleContext, s: Statement, key: KeySpec, at: Values): { 
       let a = run[0];
       let b = x;
       let da = dInside;
-      for (let i = 0; i < 50 && Math.abs(Math.log(b / a)) > 1e-9; i++) {
+      for (let i = 0; i < 30 && Math.abs(Math.log(b / a)) > 1e-5; i++) {
         const mid = Math.sqrt(a * b);
         const dm = d(mid);
         if (dm === null) break;
@@ -324,7 +355,7 @@ export function designChanges(ctx: RuleContext, entry: ClaimEntry, v: BoundVerdi
     }
     const span = Object.entries(range).map(([k, [lo, hi]]) => `${k} from ${formatQuantity(lo, topo.params.find((p) => p.key === k)!.kind)} to ${formatQuantity(hi, topo.params.find((p) => p.key === k)!.kind)}`).join(', ');
     const closest = unmet.length ? `; the nearest approach is at ${unmet.map((u) => `${u.key.key} = ${formatQuantity(u.closest, u.key.kind)}`).join(', ')}` : '';
-    fixes.push({ kind: 'none', text: `no single value of ${knobs.map((k) => k.key).join(' or ')} (scanned ${span}, ${PER_DECADE} points a decade, refined) meets the claim on its own${closest}`, knobs: knobs.map((k) => k.key), range });
+    fixes.push({ kind: 'none', text: `no single value of ${knobs.map((k) => k.key).join(' or ')} (scanned ${span}, ${PER_DECADE} points a decade, refined near the nearest approach) meets the claim on its own${closest}`, knobs: knobs.map((k) => k.key), range });
   } else if (fixes.length && !fixes.some((f) => f.kind === 'design' && f.meetsAll)) {
     const conflicts = [...new Set(fixes.flatMap((f) => (f.kind === 'design' ? f.breaks.map((b) => b.claim) : [])))];
     const names = [...new Set(fixes.flatMap((f) => (f.kind === 'design' ? Object.keys(f.changes) : [])))];
@@ -341,7 +372,7 @@ export function designChanges(ctx: RuleContext, entry: ClaimEntry, v: BoundVerdi
  * the first that meets every claim returned.
  */
 function solvePair(ctx: RuleContext, target: Statement, knobs: KeySpec[], at: Values): Values | null {
-  const steps = [-1, -0.75, -0.5, -0.3, -0.15, 0, 0.15, 0.3, 0.5, 0.75, 1];
+  const steps = [-1, -0.6, -0.3, -0.12, 0, 0.12, 0.3, 0.6, 1];
   const candidates: Array<{ changes: Values; distance: number }> = [];
   for (let i = 0; i < knobs.length; i++) {
     for (let j = i + 1; j < knobs.length; j++) {

@@ -55,7 +55,10 @@ export function contextFor(spec: Spec, overrides: Values, claims: ClaimEntry[], 
   // lives as long as the context, that is, while its file is being checked.
   const memo = new Map<string, { model: Model | null; error?: string }>();
   const at = (values: Values): { model: Model | null; error?: string } => {
-    const key = JSON.stringify(Object.keys(values).sort().map((k) => [k, values[k]]));
+    // Values objects are built as {...base, ...changes}, so their key order is
+    // stable; a key in another order only misses the memo.
+    let key = '';
+    for (const k in values) key += `${k}:${values[k]};`;
     const hit = memo.get(key);
     if (hit) return hit;
     let out: { model: Model | null; error?: string };
