@@ -2,12 +2,12 @@
 // is listed (as waived) but counts neither as an error nor as a warning.
 
 import { RULES } from '../rules';
+import { INPUT_RULE_IDS } from './diagnostics';
 import type { Finding } from './findings';
 import { nearest } from './spec/nearest';
 import type { Waiver } from './spec/types';
 
-/** Ids that input findings carry; a waiver may name them too. */
-export const INPUT_RULE_IDS = ['yaml-syntax', 'front-matter', 'unknown-key', 'wrong-unit', 'invalid-value', 'missing-value', 'missing-param', 'network', 'table'];
+export { INPUT_RULE_IDS };
 
 const problem = (w: Waiver, severity: Finding['severity'], message: string, suggestions: string[] = []): Finding => ({
   rule: 'waiver',

@@ -9,23 +9,9 @@ import { fileURLToPath, pathToFileURL } from 'node:url';
 import type { FileResult } from '../check';
 import type { Finding, Severity } from '../findings';
 import type { Rule } from '../rule';
+import { INPUT_DIAGNOSTICS } from '../diagnostics';
 
-/** The ids that input findings carry (reading, parsing, schema, model, waivers), with what they report. */
-export const INPUT_DIAGNOSTICS: readonly { id: string; name: string; description: string; severity: Severity }[] = [
-  { id: 'yaml-syntax', name: 'YamlSyntax', severity: 'error', description: 'The front matter is not valid YAML.' },
-  { id: 'front-matter', name: 'FrontMatter', severity: 'error', description: 'The front matter does not have the shape of a spec (required keys, mappings, lists).' },
-  { id: 'unknown-key', name: 'UnknownKey', severity: 'error', description: 'A key that the spec format or the topology does not know.' },
-  { id: 'wrong-unit', name: 'WrongUnit', severity: 'error', description: 'A value whose unit does not fit its key.' },
-  { id: 'invalid-value', name: 'InvalidValue', severity: 'error', description: 'A value that cannot be read as a quantity, range or bound, or lies outside what its key allows.' },
-  { id: 'missing-value', name: 'MissingValue', severity: 'error', description: 'A key without a value.' },
-  { id: 'missing-param', name: 'MissingParam', severity: 'error', description: 'A param the topology needs is not given.' },
-  { id: 'network', name: 'UnsolvableNetwork', severity: 'error', description: 'The small-signal model cannot be solved, or a user-defined network is malformed.' },
-  { id: 'table', name: 'UncheckedTableContent', severity: 'info', description: 'A datasheet table row or condition that is not checked.' },
-  { id: 'waiver', name: 'WaiverProblem', severity: 'error', description: 'A waiver that names an unknown rule, lacks its reason, has expired or matches no finding.' },
-  { id: 'read-error', name: 'ReadError', severity: 'error', description: 'The file cannot be read.' },
-  { id: 'encoding', name: 'InvalidEncoding', severity: 'error', description: 'The file is not valid UTF-8.' },
-  { id: 'file-too-large', name: 'FileTooLarge', severity: 'error', description: 'The file is larger than the size limit (--max-bytes).' },
-];
+export { INPUT_DIAGNOSTICS } from '../diagnostics';
 
 export interface SarifOptions {
   /** The tool's version (semantic version). */
