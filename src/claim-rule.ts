@@ -88,13 +88,16 @@ function checkEntry(ctx: RuleContext, def: ClaimRuleSpec, entry: ClaimEntry): Dr
     if (at.value === null) {
       message = `${claimText}, but the model gives no ${def.noun}${corner}: ${at.figure?.reason ?? 'the figure does not exist'}`;
     } else if (v.outcome === 'thin') {
-      message = `${claimText} holds${corner} with the model giving ${show(at.value, kind)}, ${offBy(v, at.value, kind)} (tolerance ${describeTolerance(t, kind)})`;
+      message = `${claimText} holds${corner} with the model giving ${show(at.value, kind)}, ${offBy(v, at.value, kind, t)} (tolerance ${describeTolerance(t, kind)})`;
     } else {
       const tol = v.bound === 'typ' ? `, tolerance ${describeTolerance(t, kind)}` : '';
-      message = `${claimText}, model gives ${show(at.value, kind)}${corner} (${offBy(v, at.value, kind)}${tol})`;
+      message = `${claimText}, model gives ${show(at.value, kind)}${corner} (${offBy(v, at.value, kind, t)}${tol})`;
     }
     const notes = at.figure?.notes ?? [];
     if (notes.length) message += `; ${notes.join('; ')}`;
+    // A forgotten load is the commonest silent assumption: say it was made.
+    const loadStated = ctx.spec.conditions.has('cl') || (entry.conditions !== undefined && 'cl' in entry.conditions.values);
+    if (!loadStated && entry.key !== 'dc_gain' && ctx.spec.topology.conditions.some((c) => c.key === 'cl')) message += '; this assumes no load capacitance: the document states no cl';
     const fixes: Fix[] = v.outcome === 'fails'
       ? [...(at.value !== null ? [restate(ctx, entry, v, at.value, at.where)] : []), ...designChanges(ctx, entry, v, values)]
       : [];

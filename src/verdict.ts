@@ -83,11 +83,21 @@ export const percent = (p: number): string =>
   !Number.isFinite(p) || p >= 1e6 ? 'more than a million' : p >= 100 ? Math.round(p).toString() : p.toPrecision(2);
 
 /** How far off, in words: "17.9° short", "20 % low", "3.2 dB high". */
-export function offBy(v: BoundVerdict, computed: number, kind: Kind): string {
+export function offBy(v: BoundVerdict, computed: number, kind: Kind, t?: Tolerance): string {
   const rel = kind === 'frequency' || kind === 'slew';
-  const amount = rel
-    ? `${percent(Math.abs((100 * v.delta) / v.claimed))} %`
-    : formatQuantity(Math.abs(v.delta), kind, 2);
+  const size = rel ? Math.abs((100 * v.delta) / v.claimed) : Math.abs(v.delta);
+  // The tolerance in the same terms, and enough digits that the rounded
+  // deviation falls on the same side of it as the verdict ("10.3 % high,
+  // tolerance ±10 %", never "10 % high" for a claim that fails).
+  const limit = t ? (t.relative ? 100 * t.value : t.value) : undefined;
+  const show = (digits: number): string => (rel ? `${digits <= 2 ? percent(size) : +size.toPrecision(digits)} %` : formatQuantity(size, kind, digits));
+  const valueOf = (digits: number): number => (rel ? (digits <= 2 ? Number(percent(size)) : +size.toPrecision(digits)) : +size.toPrecision(digits));
+  let digits = 2;
+  if (limit !== undefined && v.bound === 'typ' && Number.isFinite(size)) {
+    const fails = v.outcome === 'fails';
+    while (digits < 7 && (fails ? !(valueOf(digits) > limit) : !(valueOf(digits) <= limit))) digits++;
+  }
+  const amount = show(digits);
   if (v.bound === 'min') return v.outcome === 'fails' ? `${amount} short` : `only ${amount} above the bound`;
   if (v.bound === 'max') return v.outcome === 'fails' ? `${amount} over` : `only ${amount} below the bound`;
   return `${amount} ${computed > v.claimed ? 'high' : 'low'}`;
