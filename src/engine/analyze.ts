@@ -46,12 +46,14 @@ export interface NetworkAnalysis {
 export function analyzeNetwork(net: Network): NetworkAnalysis {
   const st = stamp(net);
   const { n, G, C, gIn, cIn, out } = st;
-  const luDc = realLU(G.slice(), n);
-  if (!luDc || luDc.pivotRatio < 1e-15) {
-    throw new NetworkError('the network has a node without a DC path to ground (conductance matrix is singular)');
-  }
-  const xDc = realSolve(luDc, n, gIn.map((v) => -v));
-  const dcGain = xDc[out];
+  // Equilibrated first (rows, then columns, scaled to unit maxima), so that a
+  // chain of stages at very different impedance levels is not mistaken for a
+  // singular matrix by the pivot-ratio test (which then measures conditioning,
+  // not units).
+  const { scaled, rowScale, colScale } = equilibrate(G, n);
+  const yDc = solveUnlessSingular(scaled, n, Array.from(gIn, (v, i) => -v * rowScale[i]));
+  if (!yDc) throw new NetworkError('the network has a node without a DC path to ground (conductance matrix is singular)');
+  const dcGain = yDc[out] * colScale[out];
 
   const roots = (A: Float64Array, B: Float64Array, size: number, poly: PencilPolynomial | null) => {
     try {
@@ -144,6 +146,71 @@ export function analyzeNetwork(net: Network): NetworkAnalysis {
     factored,
     polynomials: denominator && numerator ? { denominator, numerator } : null,
   };
+}
+
+/**
+ * Solves A·x = b by Gaussian elimination with partial pivoting (Golub & Van
+ * Loan, "Matrix Computations", §3.4), or returns null when A is singular. The
+ * test is on cancellation, not on the spread of the pivots: a pivot that is
+ * exactly zero, or that elimination cancelled to round-off of the terms that
+ * formed it, means no unique solution. A chain of gain stages has pivots
+ * decades apart and a huge condition number, yet its solution is exact.
+ */
+function solveUnlessSingular(A: Float64Array, n: number, b: number[]): number[] | null {
+  const a = A.slice();
+  const size = new Float64Array(n * n);
+  for (let i = 0; i < n * n; i++) size[i] = Math.abs(a[i]);
+  const x = b.slice();
+  for (let k = 0; k < n; k++) {
+    let p = k;
+    for (let i = k + 1; i < n; i++) if (Math.abs(a[i * n + k]) > Math.abs(a[p * n + k])) p = i;
+    const pivot = a[p * n + k];
+    if (pivot === 0 || !Number.isFinite(pivot) || Math.abs(pivot) < 1e-13 * size[p * n + k]) return null;
+    if (p !== k) {
+      for (let j = 0; j < n; j++) {
+        [a[k * n + j], a[p * n + j]] = [a[p * n + j], a[k * n + j]];
+        [size[k * n + j], size[p * n + j]] = [size[p * n + j], size[k * n + j]];
+      }
+      [x[k], x[p]] = [x[p], x[k]];
+    }
+    for (let i = k + 1; i < n; i++) {
+      const l = a[i * n + k] / pivot;
+      if (l === 0) continue;
+      for (let j = k + 1; j < n; j++) {
+        const t = l * a[k * n + j];
+        a[i * n + j] -= t;
+        size[i * n + j] = Math.max(size[i * n + j], Math.abs(t));
+      }
+      x[i] -= l * x[k];
+    }
+  }
+  for (let i = n - 1; i >= 0; i--) {
+    let sum = x[i];
+    for (let j = i + 1; j < n; j++) sum -= a[i * n + j] * x[j];
+    x[i] = sum / a[i * n + i];
+  }
+  return x.every(Number.isFinite) ? x : null;
+}
+
+/** D_r·G·D_c with row and then column maxima 1 (powers of two, so the scaling is exact). */
+function equilibrate(G: Float64Array, n: number): { scaled: Float64Array; rowScale: Float64Array; colScale: Float64Array } {
+  const scaled = G.slice();
+  const rowScale = new Float64Array(n).fill(1);
+  const colScale = new Float64Array(n).fill(1);
+  const pow2 = (x: number): number => (x > 0 && Number.isFinite(x) ? 2 ** -Math.round(Math.log2(x)) : 1);
+  for (let i = 0; i < n; i++) {
+    let m = 0;
+    for (let j = 0; j < n; j++) m = Math.max(m, Math.abs(scaled[i * n + j]));
+    rowScale[i] = pow2(m);
+    for (let j = 0; j < n; j++) scaled[i * n + j] *= rowScale[i];
+  }
+  for (let j = 0; j < n; j++) {
+    let m = 0;
+    for (let i = 0; i < n; i++) m = Math.max(m, Math.abs(scaled[i * n + j]));
+    colScale[j] = pow2(m);
+    for (let i = 0; i < n; i++) scaled[i * n + j] *= colScale[j];
+  }
+  return { scaled, rowScale, colScale };
 }
 
 // Phase as a sum of per-root terms arg(1 − jω/r): each is continuous in ω
