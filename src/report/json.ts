@@ -1,7 +1,15 @@
 // The machine-readable report of SPEC-FORMAT §4.
 
 import type { FileResult } from '../check';
+import type { Fix } from '../findings';
 import { summarize } from './summary';
+
+/** A fix as SPEC-FORMAT §4 shows it: an edit by line and column (1-based, endColumn exclusive). */
+function fixForReport(f: Fix): unknown {
+  if (f.kind !== 'restate') return f;
+  const { edit, ...rest } = f;
+  return { ...rest, edit: edit ? { line: edit.line, column: edit.column, endLine: edit.endLine, endColumn: edit.endColumn, text: edit.text } : null };
+}
 
 export function jsonReport(results: FileResult[], opts: { quiet?: boolean } = {}): string {
   const files = results.map((r) => ({
@@ -22,6 +30,9 @@ export function jsonReport(results: FileResult[], opts: { quiet?: boolean } = {}
       ...(f.related ? { related: f.related } : {}),
       ...(f.derivation ? { derivation: f.derivation } : {}),
       ...(f.waived ? { waived: f.waived } : {}),
+      ...(f.verdict ? { verdict: f.verdict } : {}),
+      // SPEC-FORMAT §4: the structured form of the suggestions.
+      ...(f.fixes?.length ? { fixes: f.fixes.map(fixForReport) } : {}),
     })),
   }));
   return `${JSON.stringify({ files, summary: summarize(results) }, null, 2)}\n`;
