@@ -5,7 +5,7 @@
 import { type Figure, figure, missing, unboundedMargin } from './figure';
 import { complexLU, complexSolve, realLU, realSolve } from './linalg';
 import { GROUND, type Network, NetworkError, type Stamped, stamp } from './network';
-import { type PencilPolynomial, pencilPolynomial } from './poly';
+import { type PencilPolynomial, hurwitzStable, pencilPolynomial } from './poly';
 import { type Root, SingularPencilError, findRoots, rootHz } from './roots';
 
 const TWO_PI = 2 * Math.PI;
@@ -662,6 +662,21 @@ function combine(d: PencilPolynomial, num: PencilPolynomial, beta: number): Penc
 }
 
 /** Closed loop with the input driven by vin − β·vout. */
+/**
+ * The closed loop's stability without its poles, where the Routh array of
+ * D(s) + β·N(s) decides it safely (a small network whose expansion kept its
+ * digits); undefined where the poles are needed to decide.
+ */
+function quickStability(a: NetworkAnalysis, beta: number): Stability | undefined {
+  if (!a.polynomials) return undefined;
+  const p = combine(a.polynomials.denominator, a.polynomials.numerator, beta);
+  let kept = 1;
+  for (let k = 0; k < p.kept.length; k++) kept = Math.min(kept, p.kept[k]);
+  if (kept < 1e-3) return undefined;
+  const stable = hurwitzStable(p.coef);
+  return stable === null ? undefined : stable ? 'stable' : 'unstable';
+}
+
 function closedLoop(a: NetworkAnalysis, beta: number): { poles: Root[]; stability: Stability } {
   // (G − β·gIn·e_outᵀ + s(C − β·cIn·e_outᵀ))·V = −(gIn + s·cIn)·vin.
   const { n, G, C, gIn, cIn, out } = a.stamped;
@@ -804,8 +819,12 @@ class FactoredLoop implements LoopAnalysis {
     return this.closed.poles;
   }
 
+  private quick: Stability | undefined | null = null;
+
   get stability(): Stability {
-    return this.closed.stability;
+    // The Routh array decides most loops without computing their poles.
+    if (this.quick === null) this.quick = quickStability(this.a, this.beta);
+    return this.quick ?? this.closed.stability;
   }
 
   get stable(): boolean {

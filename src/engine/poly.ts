@@ -207,3 +207,56 @@ function startingPoints(c: number[], deg: number, zr: Float64Array, zi: Float64A
     }
   }
 }
+
+/**
+ * Whether every root of a real polynomial (ascending coefficients) lies in the
+ * open left half-plane, by the Routh array (E. J. Routh, 1877; e.g. K. Ogata,
+ * "Modern Control Engineering", the Routh stability criterion): stable iff the
+ * array's first column keeps one sign. Null when the array cannot decide
+ * safely (a first-column entry lost to cancellation, a zero coefficient: a
+ * root on or near the jω axis), so that the caller computes the roots.
+ */
+export function hurwitzStable(coef: ArrayLike<number>): boolean | null {
+  let d = coef.length - 1;
+  while (d >= 0 && coef[d] === 0) d--;
+  if (d < 0) return null;
+  if (d === 0) return true;
+  // Every coefficient present and of one sign is necessary.
+  const sign = Math.sign(coef[d]);
+  for (let k = 0; k <= d; k++) if (Math.sign(coef[k]) !== sign) return coef[k] === 0 ? null : false;
+  if (d <= 2) return true;
+  // Rows in descending powers, each scaled to unit maximum (signs kept).
+  const width = Math.floor(d / 2) + 1;
+  let upper = new Float64Array(width);
+  let lower = new Float64Array(width);
+  for (let j = 0; j < width; j++) {
+    upper[j] = d - 2 * j >= 0 ? coef[d - 2 * j] : 0;
+    lower[j] = d - 1 - 2 * j >= 0 ? coef[d - 1 - 2 * j] : 0;
+  }
+  const normalise = (row: Float64Array): void => {
+    let m = 0;
+    for (let j = 0; j < row.length; j++) m = Math.max(m, Math.abs(row[j]));
+    if (m > 0) for (let j = 0; j < row.length; j++) row[j] /= m;
+  };
+  normalise(upper);
+  normalise(lower);
+  const firstSign = Math.sign(upper[0]);
+  if (Math.sign(lower[0]) !== firstSign) return false;
+  for (let row = 2; row <= d; row++) {
+    const next = new Float64Array(width);
+    for (let j = 0; j < width - 1; j++) {
+      const a = lower[0] * upper[j + 1];
+      const b = upper[0] * lower[j + 1];
+      const v = (a - b) / lower[0];
+      // A first-column entry that cancels to round-off cannot be signed safely.
+      if (j === 0 && Math.abs(a - b) <= 1e-9 * (Math.abs(a) + Math.abs(b))) return null;
+      next[j] = v;
+    }
+    normalise(next);
+    if (next[0] === 0) return null;
+    if (Math.sign(next[0]) !== firstSign) return false;
+    upper = lower;
+    lower = next;
+  }
+  return true;
+}
