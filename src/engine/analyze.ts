@@ -251,23 +251,27 @@ export class FactoredResponse {
   readonly lnMax: number;
 
   constructor(poles: Root[], zeros: Root[], gain: number) {
-    const all = [...zeros.filter((z) => z.re !== 0 || z.im !== 0).map((r) => [r, 1] as const), ...poles.map((r) => [r, -1] as const)];
-    const count = all.length;
+    let count = poles.length;
+    for (const z of zeros) if (z.re !== 0 || z.im !== 0) count++;
     this.re = new Float64Array(count);
     this.im = new Float64Array(count);
     this.m2 = new Float64Array(count);
     this.sign = new Float64Array(count);
     let lnMin = Infinity;
     let lnMax = -Infinity;
-    all.forEach(([r, sign], i) => {
+    let i = 0;
+    const put = (r: Root, sign: number): void => {
       this.re[i] = r.re;
       this.im[i] = r.im;
       this.m2[i] = r.re * r.re + r.im * r.im;
       this.sign[i] = sign;
       const ln = 0.5 * Math.log(this.m2[i]);
-      lnMin = Math.min(lnMin, ln);
-      lnMax = Math.max(lnMax, ln);
-    });
+      if (ln < lnMin) lnMin = ln;
+      if (ln > lnMax) lnMax = ln;
+      i++;
+    };
+    for (const z of zeros) if (z.re !== 0 || z.im !== 0) put(z, 1);
+    for (const p of poles) put(p, -1);
     this.originZeros = zeros.length - (count - poles.length);
     this.lnGain = Math.log(Math.abs(gain));
     this.phase0 = gain < 0 ? -Math.PI : 0;
@@ -596,7 +600,7 @@ const polesText = (poles: Root[]): string =>
  *   reaches −1 and the loop is stable.
  * An unstable or undecided closed loop has no margins: the figures say why.
  */
-function phaseMarginFigure(crossings: Array<{ fHz: number; phaseDeg: number }>, loopDcDb: number, stability: Stability, closedLoopPoles: Root[]): Figure {
+function phaseMarginFigure(crossings: Array<{ fHz: number; phaseDeg: number }>, loopDcDb: number, stability: Stability, closedLoopPoles: () => Root[]): Figure {
   if (crossings.length === 0) {
     const none = loopDcDb < 0
       ? missing('deg', 'frequency-search', PM_HOW, `|βA| stays below 1 (loop gain at DC ${fixed2(loopDcDb)} dB): no crossover, so no phase margin`)
@@ -606,12 +610,13 @@ function phaseMarginFigure(crossings: Array<{ fHz: number; phaseDeg: number }>, 
   const margins = crossings.map((c) => wrapDeg(180 + c.phaseDeg));
   let worst = 0;
   for (let i = 1; i < margins.length; i++) if (margins[i] < margins[worst]) worst = i;
-  const notes = crossings.length > 1 ? [`|βA| crosses 1 at ${crossings.length} frequencies (${crossings.map((c, i) => `${fmtHz(c.fHz)}: ${margins[i].toFixed(1)}°`).join(', ')}); the worst margin is reported`] : [];
-  const pm = figure(margins[worst], 'deg', 'frequency-search', `${PM_HOW}; f_c = ${fmtHz(crossings[worst].fHz)}`, notes);
+  const notes = crossings.length > 1 ? [`|βA| crosses 1 at ${crossings.length} frequencies (${crossings.map((c, i) => `${fmtHz(c.fHz)}: ${margins[i].toFixed(1)}°`).join(', ')}); the worst margin is reported`] : undefined;
+  const fc = crossings[worst].fHz;
+  const pm = lazyHow(figure(margins[worst], 'deg', 'frequency-search', PM_HOW, notes), () => `${PM_HOW}; f_c = ${fmtHz(fc)}`);
   return stability === 'stable' ? pm : withoutMargin(pm, stability, closedLoopPoles, '°');
 }
 
-function gainMarginFigure(phaseCrossings: Array<{ fHz: number; loopDb: number }>, stability: Stability, closedLoopPoles: Root[]): Figure {
+function gainMarginFigure(phaseCrossings: Array<{ fHz: number; loopDb: number }>, stability: Stability, closedLoopPoles: () => Root[]): Figure {
   const increase = phaseCrossings.filter((c) => c.loopDb < 0);
   const reduction = phaseCrossings.filter((c) => c.loopDb >= 0);
   const notes: string[] = [];
@@ -635,10 +640,17 @@ function gainMarginFigure(phaseCrossings: Array<{ fHz: number; loopDb: number }>
   return stability === 'stable' ? gm : withoutMargin(gm, stability, closedLoopPoles, ' dB');
 }
 
+/** The figure with its derivation text written when first read. */
+function lazyHow(f: Figure, how: () => string): Figure {
+  let text: string | undefined;
+  Object.defineProperty(f, 'how', { get: () => (text ??= how()), enumerable: true, configurable: true });
+  return f;
+}
+
 /** A margin of a loop that is not known to be stable: no value, and why. */
-function withoutMargin(f: Figure, stability: Stability, closedLoopPoles: Root[], unit: string): Figure {
+function withoutMargin(f: Figure, stability: Stability, closedLoopPoles: () => Root[], unit: string): Figure {
   const why = stability === 'unstable'
-    ? `the closed loop is unstable (closed-loop poles in the right half-plane: ${polesText(closedLoopPoles.filter((p) => !(p.re < 1e-12 * Math.hypot(p.re, p.im))))}), so it has no margin`
+    ? `the closed loop is unstable (closed-loop poles in the right half-plane: ${polesText(closedLoopPoles().filter((p) => !(p.re < 1e-12 * Math.hypot(p.re, p.im))))}), so it has no margin`
     : 'the closed-loop poles could not be computed, so the stability of the loop and its margins are not known';
   const would = f.value !== null ? [`the margin read off the open loop would be ${f.value.toFixed(1)}${unit}, which means nothing for an unstable loop`] : [];
   const out = missing(f.unit, f.method, f.how, why, [...would, ...(f.notes ?? [])]);
@@ -834,12 +846,12 @@ class FactoredLoop implements LoopAnalysis {
   get phaseMargin(): Figure {
     return this.memo('pm', () => {
       const crossings = this.crossoversHz.map((fHz) => ({ fHz, phaseDeg: this.f.phase(TWO_PI * fHz) * DEG }));
-      return phaseMarginFigure(crossings, (this.f.lnGain + Math.log(this.beta)) * (20 / Math.LN10), this.stability, this.closedLoopPoles);
+      return phaseMarginFigure(crossings, (this.f.lnGain + Math.log(this.beta)) * (20 / Math.LN10), this.stability, () => this.closedLoopPoles);
     });
   }
 
   get gainMargin(): Figure {
-    return this.memo('gm', () => gainMarginFigure(this.phaseCrossings, this.stability, this.closedLoopPoles));
+    return this.memo('gm', () => gainMarginFigure(this.phaseCrossings, this.stability, () => this.closedLoopPoles));
   }
 }
 
@@ -904,8 +916,8 @@ function sweptLoop(a: NetworkAnalysis, beta: number): LoopAnalysis {
   }
   phaseCrossings.sort((x, y) => x.fHz - y.fHz);
   const closed = closedLoop(a, beta);
-  const phaseMargin = phaseMarginFigure(crossoversHz.map((fHz) => ({ fHz, phaseDeg: phase(fHz) })), a.at(lo).magDb + loopDb, closed.stability, closed.poles);
-  const gainMargin = gainMarginFigure(phaseCrossings, closed.stability, closed.poles);
+  const phaseMargin = phaseMarginFigure(crossoversHz.map((fHz) => ({ fHz, phaseDeg: phase(fHz) })), a.at(lo).magDb + loopDb, closed.stability, () => closed.poles);
+  const gainMargin = gainMarginFigure(phaseCrossings, closed.stability, () => closed.poles);
   const crossoverMarginsDeg = crossoversHz.map((fHz) => wrapDeg(180 + phase(fHz)));
   return { beta, bandwidth, unityGain, crossoversHz, crossoverMarginsDeg, phaseCrossings, phaseMargin, gainMargin, closedLoopPoles: closed.poles, stability: closed.stability, stable: closed.stability === 'stable' };
 }

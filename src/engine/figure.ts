@@ -2,7 +2,7 @@
 // reports and `explain` can show the derivation, and says why when it does
 // not exist (no NaN ever reaches a report).
 
-export type FigureUnit = 'Hz' | 'dB' | 'deg' | 'V/s' | 'V/V' | 'F';
+export type FigureUnit = 'Hz' | 'dB' | 'deg' | 'V/s' | 'V/V' | 'F' | 'V/\u221aHz' | 'V' | 'A' | 'W' | 'MHz\u00b7pF/mA' | 's' | 'ratio';
 
 export type Method =
   /** From the exact poles and zeros of the network (generalized eigenvalues, Newton-refined). */
@@ -14,7 +14,15 @@ export type Method =
   /** A first-order hand formula (pole splitting and friends). */
   | 'hand-estimate'
   /** A large-signal formula (slew rate). */
-  | 'large-signal';
+  | 'large-signal'
+  /** From every noise source's exact transfer to the output (adjoint solves), integrated where a band asks for it. */
+  | 'noise-analysis'
+  /** From the stated bias currents and supply (power, supply current). */
+  | 'bias-currents'
+  /** From a root search on the exact small-signal step response (its modes, by partial fractions). */
+  | 'time-search'
+  /** From a time integration of a large-signal model, ending on the exact linear response. */
+  | 'transient';
 
 export interface Figure {
   /** In the canonical unit; null when the figure does not exist (see `reason`). */

@@ -29,15 +29,21 @@ export interface PencilPolynomial {
  * det(A + sB) as a polynomial, by Leibniz expansion over the permutations
  * (depth-first, pruning zero entries). Null for pencils above MAX_EXPANDED.
  */
+const SUM = new Float64Array(MAX_EXPANDED + 1);
+const ABS = new Float64Array(MAX_EXPANDED + 1);
+const PARTIAL = new Float64Array((MAX_EXPANDED + 1) * (MAX_EXPANDED + 1));
+const USED = new Uint8Array(MAX_EXPANDED);
+
 export function pencilPolynomial(A: Float64Array, B: Float64Array, n: number): PencilPolynomial | null {
   if (n > MAX_EXPANDED) return null;
   const size = n + 1;
-  const sum = new Float64Array(size);
-  const abs = new Float64Array(size);
+  // Scratch reused across calls (the engine is single-threaded per worker): this runs thousands of times per spec.
+  const sum = SUM.fill(0, 0, size);
+  const abs = ABS.fill(0, 0, size);
   // partial[d] holds the product of the first d factors (degree ≤ d).
-  const partial = new Float64Array(size * size);
+  const partial = PARTIAL;
   partial[0] = 1;
-  const used = new Uint8Array(n);
+  const used = USED.fill(0, 0, n);
   const walk = (row: number, sign: number): void => {
     const base = row * size;
     if (row === n) {
