@@ -7,6 +7,7 @@ import { RULES } from '../rules';
 import { type Finding, sortFindings } from './findings';
 import type { Model } from './model';
 import { readDocument } from './pipeline';
+import { type Sheet, sheetOf } from './report/sheet';
 import { type Judged, type OperatingPoint, judgeAll, operatingPoints, recheck } from './points';
 import { type Recheck, type RuleContext, type RuleSettings, runRules } from './rule';
 import type { Values } from './topologies/types';
@@ -27,6 +28,8 @@ export interface FileResult {
   points?: OperatingPoint[];
   /** Every statement of every claim with the figure it was judged against (holding ones included), for the reviewer report. */
   statements?: Judged[];
+  /** The block's review sheet: plain data for the text report. */
+  sheet?: Sheet;
 }
 
 export interface CheckOptions {
@@ -63,5 +66,7 @@ export function checkText(path: string, text: string, options: CheckOptions = {}
   findings.push(...applyWaivers(findings, spec.waivers, options.today ?? todayIso()));
   // The figures of every statement, holding ones included: the worst-case searches are memoized, so this re-reads what the rules computed.
   const statements = judgeAll(points);
-  return { path, skipped: false, findings: sortFindings(findings), spec, model: front.context.model, context: front.context, points, statements };
+  const result: FileResult = { path, skipped: false, findings: sortFindings(findings), spec, model: front.context.model, context: front.context, points, statements };
+  result.sheet = sheetOf(result);
+  return result;
 }

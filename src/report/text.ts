@@ -1,33 +1,109 @@
-// The text report: grouped by file, one finding a line with its place,
-// severity, message and rule id, suggestions beneath.
+// The text report: a review sheet per block, claims first. A header line names
+// the block, its topology, the operating point and the loop's verdict; every
+// claim that fails or holds only thinly is a row of aligned columns (mark,
+// claim, stated, model, deviation against its tolerance, place as
+// path:line:col), with its restatement and design changes beneath; the claims
+// that hold share one line; rules of thumb and input problems follow. One
+// tally and the caution close the run.
 
 import type { FileResult } from '../check';
 import type { Finding } from '../findings';
+import type { Sheet, SheetRow } from './sheet';
 import type { Paint } from './style';
 import { CAUTION, summarize } from './summary';
 
-const mark = (f: Finding, p: Paint): string =>
-  f.severity === 'error' ? p.red('error  ') : f.severity === 'warning' ? p.yellow('warning') : p.blue('info   ');
+/** A file's result as the writer receives it: the sheet travels beside the findings. */
+export type SheetResult = FileResult & { sheet?: Sheet };
 
-export function textReport(results: FileResult[], p: Paint, opts: { quiet?: boolean } = {}): string {
+/**
+ * Text from a document, safe to print: control characters, bidirectional
+ * overrides and zero-width characters become visible escapes, so a file name
+ * or a value cannot move the cursor, reorder a line or hide in it.
+ */
+export function printable(s: string): string {
+  return s.replace(/[\u0000-\u0008\u000b-\u001f\u007f-\u009f\u200b-\u200f\u202a-\u202e\u2060-\u2069\ufeff\n]/g, (c) => (c === '\n' ? '\\n' : `\\u{${c.codePointAt(0)!.toString(16)}}`));
+}
+
+const pad = (s: string, n: number): string => s + ' '.repeat(Math.max(0, n - [...s].length));
+
+export function textReport(results: SheetResult[], p: Paint, opts: { quiet?: boolean } = {}): string {
   const lines: string[] = [];
+  let blocks = 0;
+  let claims = 0;
+  let failing = 0;
+  let thin = 0;
   for (const r of results) {
-    const shown = r.findings.filter((f) => !opts.quiet || (f.severity === 'error' && !f.waived));
-    if (r.skipped || shown.length === 0) continue;
-    lines.push(p.bold(r.path));
-    for (const f of shown) {
-      const tag = f.waived ? p.dim('waived ') : mark(f, p);
-      lines.push(`  ${p.dim(`${f.line}:${f.column}`.padEnd(7))} ${tag} ${f.message}  ${p.dim(f.rule)}`);
-      if (f.waived) lines.push(`           ${p.dim(`waived at line ${f.waived.line}${f.waived.expires ? ` until ${f.waived.expires}` : ''}: ${f.waived.reason}`)}`);
-      for (const s of f.suggestions) lines.push(`           ${p.dim('→')} ${s}`);
-      for (const rel of f.related ?? []) lines.push(`           ${p.dim(`${rel.line}:${rel.column}`)} ${rel.message}`);
+    if (r.skipped) continue;
+    const path = printable(r.path);
+    const place = (line: number, column: number) => `${path}:${line}:${column}`;
+    const sheet = r.sheet;
+    const inSheet = new Set<string>();
+    const out: string[] = [];
+    if (sheet) {
+      blocks++;
+      claims += sheet.rows.length;
+      const loop = sheet.stability === undefined ? '' : sheet.stability === 'stable' ? ' · loop stable' : sheet.stability === 'unstable' ? ` · ${p.red('loop UNSTABLE')}` : ` · ${p.yellow('loop stability unknown')}`;
+      out.push(`${p.bold(printable(sheet.block))}${sheet.title ? ` — ${printable(sheet.title)}` : ''} · ${sheet.topology}${sheet.point ? ` · ${sheet.point}` : ''}${loop}`);
+      out.push(`  ${p.dim(path)}`);
+      const shown = sheet.rows.filter((row) => row.outcome !== 'holds' && (!opts.quiet || (row.outcome === 'fails' && !row.waived)));
+      const name = (row: SheetRow) => (row.where ? `${row.key} (${printable(row.where)})` : row.key);
+      const w = {
+        key: Math.max(0, ...shown.map((row) => [...name(row)].length)),
+        stated: Math.max(0, ...shown.map((row) => [...row.stated].length)),
+        model: Math.max(0, ...shown.map((row) => [...row.model].length)),
+        dev: Math.max(0, ...shown.map((row) => [...row.deviation].length)),
+      };
+      for (const row of sheet.rows) {
+        if (row.outcome === 'fails') failing++;
+        if (row.outcome === 'thin') thin++;
+      }
+      for (const row of shown) {
+        const mark = row.waived ? p.dim('waived') : row.outcome === 'fails' ? p.red('fails ') : p.yellow('thin  ');
+        out.push(`  ${mark} ${pad(name(row), w.key)}  stated ${pad(printable(row.stated), w.stated)}  model ${pad(row.model, w.model)}  ${pad(row.deviation, w.dev)}  ${p.dim(place(row.line, row.column))}`);
+        if (row.at) out.push(`         ${p.dim(`worst at ${printable(row.at)}`)}`);
+        if (row.waived) out.push(`         ${p.dim(`accepted: ${printable(row.waived)}`)}`);
+        for (const f of r.findings.filter((x) => x.claim === row.key && x.line === row.line && x.column === row.column && x.verdict)) {
+          inSheet.add(key(f));
+          for (const s of f.suggestions) out.push(`         ${p.dim('↳')} ${printable(s)}`);
+        }
+      }
+      for (const f of r.findings) if (f.verdict && sheet.rows.some((row) => row.key === f.claim && row.line === f.line && row.column === f.column)) inSheet.add(key(f));
+      const holding = sheet.rows.filter((row) => row.outcome === 'holds');
+      if (holding.length && !opts.quiet) {
+        // One line, wrapped at about 100 columns under its own indent.
+        const items = holding.map((row) => `${name(row)} ${row.model}`);
+        let current = '';
+        const wrapped: string[] = [];
+        for (const item of items) {
+          if (current && [...current].length + item.length > 90) {
+            wrapped.push(`${current},`);
+            current = item;
+          } else current = current ? `${current}, ${item}` : item;
+        }
+        wrapped.push(current);
+        wrapped.forEach((l, i) => out.push(i === 0 ? `  ${p.green('holds')}  ${l}` : `         ${l}`));
+      }
     }
-    lines.push('');
+    // Rules of thumb and input problems: everything not a row of the sheet.
+    for (const f of r.findings) {
+      if (inSheet.has(key(f))) continue;
+      if (opts.quiet && (f.severity !== 'error' || f.waived)) continue;
+      const tag = f.waived ? p.dim('waived ') : f.severity === 'error' ? p.red('error  ') : f.severity === 'warning' ? p.yellow('warning') : p.blue('note   ');
+      out.push(`  ${tag} ${f.rule}: ${printable(f.message)}  ${p.dim(place(f.line, f.column))}`);
+      if (f.waived) out.push(`          ${p.dim(`accepted at line ${f.waived.line}${f.waived.expires ? ` until ${f.waived.expires}` : ''}: ${printable(f.waived.reason)}`)}`);
+      for (const s of f.suggestions) out.push(`          ${p.dim('↳')} ${printable(s)}`);
+      for (const rel of f.related ?? []) out.push(`          ${p.dim(place(rel.line, rel.column))} ${printable(rel.message)}`);
+    }
+    if (!sheet && out.length) out.unshift(p.bold(path));
+    if (out.length) lines.push(...out, '');
   }
   const s = summarize(results);
-  const count = (n: number, w: string) => `${n} ${w}${n === 1 ? '' : 's'}`;
-  const tally = `${count(s.files, 'spec')} checked: ${count(s.errors, 'error')}, ${count(s.warnings, 'warning')}${s.waived ? `, ${s.waived} waived` : ''}`;
+  const n = (k: number, one: string, many = `${one}s`) => `${k} ${k === 1 ? one : many}`;
+  const others = s.errors - failing;
+  const tally = `${n(blocks, 'block')}, ${n(claims, 'claim')}: ${failing} fail, ${thin} thin; ${n(s.warnings - thin, 'warning')}${others > 0 ? `, ${n(others, 'other error')}` : ''}${s.waived ? `, ${s.waived} waived` : ''}`;
   lines.push(s.errors ? p.red(tally) : s.warnings ? p.yellow(tally) : p.green(tally));
   if (s.files > 0) lines.push(p.dim(CAUTION));
   return `${lines.join('\n')}\n`;
 }
+
+const key = (f: Finding): string => `${f.rule}:${f.line}:${f.column}:${f.verdict?.bound ?? ''}`;
