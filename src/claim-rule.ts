@@ -6,6 +6,7 @@ import { conditionsText } from './evaluation';
 import type { Figure } from './engine/figure';
 import type { ClaimVerdict, Fix } from './findings';
 import { designChanges, renderFixes, restate } from './fixes';
+import { loopVerdict } from './points';
 import { worstCase } from './worst-case';
 import type { Draft, Rule, RuleContext } from './rule';
 import { CANONICAL_UNIT } from './quantity';
@@ -61,13 +62,14 @@ function checkEntry(ctx: RuleContext, def: ClaimRuleSpec, entry: ClaimEntry): Dr
   const drafts: Draft[] = [];
   const verdicts: Array<{ v: BoundVerdict; at: Point; values: Values; stability: ClaimVerdict['stability'] }> = [];
   const typModel = ctx.model;
-  if (entry.typ) verdicts.push(...judge({ ...entry, min: undefined, max: undefined }, typical.value, typical.figure, t).map((v) => ({ v, at: typical, values: typModel.values, stability: typModel.loop.stability })));
+  if (entry.typ) verdicts.push(...judge({ ...entry, min: undefined, max: undefined }, typical.value, typical.figure, t).map((v) => ({ v, at: typical, values: typModel.values, stability: loopVerdict(ctx.spec, typModel) })));
   for (const bound of ['min', 'max'] as const) {
     if (!entry[bound]) continue;
     const w = worstCase(ctx, def.claim, bound);
     const at: Point = { label: w.label, where: conditionsText(ctx.spec, w.values), figure: w.figure, value: w.value };
     const only = { ...entry, typ: undefined, min: bound === 'min' ? entry.min : undefined, max: bound === 'max' ? entry.max : undefined };
-    const stability = ctx.withChanges(w.values)?.loop.stability ?? 'unknown';
+    const worstModel = ctx.withChanges(w.values);
+    const stability: ClaimVerdict['stability'] = worstModel ? loopVerdict(ctx.spec, worstModel) : 'unknown';
     verdicts.push(...judge(only, at.value, at.figure, t).map((v) => ({ v, at, values: w.values, stability })));
   }
   const claimed = {

@@ -50,8 +50,8 @@ export interface ClaimVerdict {
   tolerance: { value: number; relative: boolean };
   /** Where it is judged: "typical" or the worst point of the box, with the conditions in force. */
   at: { label: string; conditions: string; values: Record<string, number> };
-  /** The closed loop's verdict at that point. */
-  stability: 'stable' | 'unstable' | 'unknown';
+  /** The closed loop's verdict at that point; 'open-loop' for a block not used in a loop. */
+  stability: 'stable' | 'unstable' | 'unknown' | 'open-loop';
 }
 
 /** A text edit: 1-based line and column, endColumn exclusive; start/end are offsets in the text as read (BOM excluded). */

@@ -93,10 +93,19 @@ function holds(ctx: RuleContext, s: Statement, model: Model | null, strict: bool
 }
 
 /** The value as it will be printed, read back: what the suggestion's reader would type in. */
-function printed(value: number, kind: Kind): { text: string; value: number } {
-  const text = formatQuantity(value, kind);
+function printed(value: number, kind: Kind, digits = 3): { text: string; value: number } {
+  const text = formatQuantity(value, kind, digits);
   const back = parseQuantity(text, kind);
   return { text, value: back.ok ? back.quantity.value : value };
+}
+
+/** A change's value in the fewest digits (three or more) that read back as exactly that value. */
+function asPrinted(value: number, kind: Kind): string {
+  for (let digits = 3; digits <= 9; digits++) {
+    const p = printed(value, kind, digits);
+    if (p.value === value) return p.text;
+  }
+  return formatQuantity(value, kind, 9);
 }
 
 /** The range a knob is searched over: its plausible range, within three decades of its value. */
@@ -113,7 +122,7 @@ const PER_DECADE = 6;
  * grid over the knob's whole plausible range (the figure may saturate, vanish
  * or turn back), refined to the boundary and checked at the value as printed.
  */
-function solveKnob(ctx: RuleContext, s: Statement, key: KeySpec, at: Values): { value: number; model: Model } | { closest: number } | null {
+function solveKnob(ctx: RuleContext, s: Statement, key: KeySpec, at: Values): { value: number; model: Model } | { closest: number; knifeEdge?: number } | null {
   const nowRaw = at[key.key] ?? 0;
   const now = nowRaw > 0 ? nowRaw : key.scale?.(at) ?? 0;
   if (!(now > 0)) return null;
@@ -153,7 +162,7 @@ function solveKnob(ctx: RuleContext, s: Statement, key: KeySpec, at: Values): { 
     let d = a + phi * (b - a);
     let mc = miss(Math.exp(c));
     let md = miss(Math.exp(d));
-    for (let i = 0; i < 16 && mc > 0 && md > 0; i++) {
+    for (let i = 0; i < 40 && mc > 0 && md > 0; i++) {
       if (mc < md) {
         b = d;
         d = c;
@@ -169,10 +178,22 @@ function solveKnob(ctx: RuleContext, s: Statement, key: KeySpec, at: Values): { 
       }
     }
     const x = mc <= md ? Math.exp(c) : Math.exp(d);
-    if (Math.min(mc, md) > 0) return { closest: x };
-    const p = printed(x, key.kind);
-    const m = model(p.value);
-    return m && holds(ctx, s, m, false) ? { value: p.value, model: m } : { closest: x };
+    if (Math.min(mc, md) > 0) {
+      // The nearest approach is named only where the figure exists as printed.
+      const p = printed(x, key.kind);
+      return Number.isFinite(miss(p.value)) ? { closest: p.value } : { closest: NaN };
+    }
+    // A window narrower than the grid (a figure that diverges, say). Written to
+    // three digits it still holds: a design change. Only with more digits: a
+    // knife edge, said as such, never offered as a change to make.
+    const p3 = printed(x, key.kind);
+    const m3 = model(p3.value);
+    if (m3 && holds(ctx, s, m3, false)) return { value: p3.value, model: m3 };
+    for (let digits = 4; digits <= 9; digits++) {
+      const p = printed(x, key.kind, digits);
+      if (holds(ctx, s, model(p.value), false)) return { closest: NaN, knifeEdge: p.value };
+    }
+    return { closest: NaN };
   }
   // Move from the holding point towards the present value as far as it keeps holding.
   let inside = xs[best];
@@ -229,7 +250,12 @@ function solveKnob(ctx: RuleContext, s: Statement, key: KeySpec, at: Values): { 
   }
   const p = printed(inside, key.kind);
   const m = model(p.value);
-  return m && holds(ctx, s, m, false) ? { value: p.value, model: m } : null;
+  if (m && holds(ctx, s, m, false)) return { value: p.value, model: m };
+  for (let digits = 4; digits <= 9; digits++) {
+    const q = printed(inside, key.kind, digits);
+    if (holds(ctx, s, model(q.value), false)) return { closest: NaN, knifeEdge: q.value };
+  }
+  return null;
 }
 
 /** The written form of a statement's value, in its own unit: "21 MHz", "≥ 60 deg". */
@@ -260,7 +286,7 @@ function designFix(ctx: RuleContext, target: Statement, changes: Values, why: st
   const topo = ctx.spec.topology;
   const kindOf = (k: string) => topo.params.find((p) => p.key === k)?.kind ?? 'ratio';
   const now = ctx.model.values;
-  const changeText = Object.entries(changes).map(([k, v]) => `${k} = ${formatQuantity(v, kindOf(k))}`).join(' and ');
+  const changeText = Object.entries(changes).map(([k, v]) => `${k} = ${asPrinted(v, kindOf(k))}`).join(' and ');
   const nowText = Object.keys(changes).map((k) => (now[k] === undefined || now[k] === 0 ? 'now none' : `now ${formatQuantity(now[k], kindOf(k))}`)).join(', ');
   const gives: Record<string, number | null> = {};
   for (const c of ctx.spec.claims) if (!(c.key in gives)) gives[c.key] = r.front?.exact[c.key]?.value ?? null;
@@ -320,7 +346,7 @@ export function designChanges(ctx: RuleContext, entry: ClaimEntry, v: BoundVerdi
     if (holds(ctx, target, ctx.withChanges({ ...at, ...changes }), false)) add(changes, hint.why);
   }
   const knobs = (topo.knobs[entry.key] ?? []).map((k) => topo.params.find((p) => p.key === k)).filter((k): k is KeySpec => k !== undefined);
-  const unmet: Array<{ key: KeySpec; closest: number }> = [];
+  const unmet: Array<{ key: KeySpec; closest: number; knifeEdge?: number }> = [];
   for (const key of knobs) {
     // Solved where the statement is judged; for a bound over ranges, judged
     // again over the whole box, and solved again at the new worst point.
@@ -329,7 +355,7 @@ export function designChanges(ctx: RuleContext, entry: ClaimEntry, v: BoundVerdi
       const s = solveKnob(ctx, target, key, where);
       if (!s) break;
       if ('closest' in s) {
-        unmet.push({ key, closest: s.closest });
+        unmet.push({ key, closest: s.closest, ...(s.knifeEdge !== undefined ? { knifeEdge: s.knifeEdge } : {}) });
         break;
       }
       const changes = { [key.key]: s.value };
@@ -354,8 +380,11 @@ export function designChanges(ctx: RuleContext, entry: ClaimEntry, v: BoundVerdi
       if (now > 0) range[k.key] = knobRange(k, now);
     }
     const span = Object.entries(range).map(([k, [lo, hi]]) => `${k} from ${formatQuantity(lo, topo.params.find((p) => p.key === k)!.kind)} to ${formatQuantity(hi, topo.params.find((p) => p.key === k)!.kind)}`).join(', ');
-    const closest = unmet.length ? `; the nearest approach is at ${unmet.map((u) => `${u.key.key} = ${formatQuantity(u.closest, u.key.kind)}`).join(', ')}` : '';
-    fixes.push({ kind: 'none', text: `no single value of ${knobs.map((k) => k.key).join(' or ')} (scanned ${span}, ${PER_DECADE} points a decade, refined near the nearest approach) meets the claim on its own${closest}`, knobs: knobs.map((k) => k.key), range });
+    const named = unmet.filter((u) => Number.isFinite(u.closest));
+    const closest = named.length ? `; the nearest approach is at ${named.map((u) => `${u.key.key} = ${formatQuantity(u.closest, u.key.kind)}`).join(', ')}` : '';
+    const edges = unmet.filter((u) => u.knifeEdge !== undefined);
+    const edge = edges.length ? `; it holds only in a window narrower than three digits, around ${edges.map((u) => `${u.key.key} = ${asPrinted(u.knifeEdge!, u.key.kind)}`).join(', ')} (a knife edge, not a design change)` : '';
+    fixes.push({ kind: 'none', text: `no single value of ${knobs.map((k) => k.key).join(' or ')} written to three significant digits (scanned ${span}, ${PER_DECADE} points a decade, refined near the nearest approach) meets the claim on its own${closest}${edge}`, knobs: knobs.map((k) => k.key), range });
   } else if (fixes.length && !fixes.some((f) => f.kind === 'design' && f.meetsAll)) {
     const conflicts = [...new Set(fixes.flatMap((f) => (f.kind === 'design' ? f.breaks.map((b) => b.claim) : [])))];
     const names = [...new Set(fixes.flatMap((f) => (f.kind === 'design' ? Object.keys(f.changes) : [])))];

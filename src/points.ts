@@ -8,6 +8,7 @@
 import { type Evaluated, conditionsText, corners, typicalValues } from './evaluation';
 import { type Finding, byCodeUnit } from './findings';
 import { type Model, ModelError, evaluate } from './model';
+import { inLoop } from './places';
 import type { RuleContext } from './rule';
 import type { ClaimEntry, Spec, ValueEntry } from './spec/types';
 import type { Values } from './topologies/types';
@@ -111,6 +112,11 @@ export function operatingPoints(spec: Spec, tolerances: Tolerances | undefined, 
   return points;
 }
 
+/** The closed loop's verdict; 'open-loop' for a block that is not used in a loop (it has no feedback factor). */
+export type LoopVerdict = 'stable' | 'unstable' | 'unknown' | 'open-loop';
+
+export const loopVerdict = (spec: Spec, model: Model): LoopVerdict => (inLoop(spec) ? model.loop.stability : 'open-loop');
+
 /** One statement of a claim (typ, min or max) judged at its point. */
 export interface Judged {
   entry: ClaimEntry;
@@ -120,7 +126,7 @@ export interface Judged {
   /** "typical" or the worst point of the box. */
   label: string;
   values: Values;
-  stability: 'stable' | 'unstable' | 'unknown';
+  stability: LoopVerdict;
 }
 
 /** Every statement of every claim at its own operating point: typ at the typical point, bounds at the worst point of the box. */
@@ -133,7 +139,7 @@ export function judgeAll(points: OperatingPoint[]): Judged[] {
       if (entry.typ) {
         const fig = ctx.model.exact[entry.key];
         const v = judge({ ...entry, min: undefined, max: undefined }, fig?.value ?? null, fig, t)[0];
-        out.push({ entry, point, verdict: v, value: fig?.value ?? null, label: 'typical', values: ctx.model.values, stability: ctx.model.loop.stability });
+        out.push({ entry, point, verdict: v, value: fig?.value ?? null, label: 'typical', values: ctx.model.values, stability: loopVerdict(ctx.spec, ctx.model) });
       }
       for (const bound of ['min', 'max'] as const) {
         if (!entry[bound]) continue;
@@ -141,7 +147,7 @@ export function judgeAll(points: OperatingPoint[]): Judged[] {
         const only = { ...entry, typ: undefined, min: bound === 'min' ? entry.min : undefined, max: bound === 'max' ? entry.max : undefined };
         const v = judge(only, w.value, w.figure, t)[0];
         const m = ctx.withChanges(w.values);
-        out.push({ entry, point, verdict: v, value: w.value, label: w.label, values: w.values, stability: m ? m.loop.stability : 'unknown' });
+        out.push({ entry, point, verdict: v, value: w.value, label: w.label, values: w.values, stability: m ? loopVerdict(ctx.spec, m) : 'unknown' });
       }
     }
   }
@@ -173,7 +179,8 @@ export function recheck(spec: Spec, changes: Values, tolerances: Tolerances | un
   const points = operatingPoints(changed, tolerances, []);
   if (!points) return { judged: [], stable: false, front: null };
   const judged = judgeAll(points);
-  const stable = points.every((p) => p.context.model.loop.stability === 'stable') && judged.every((j) => j.stability === 'stable');
+  const ok = (v: LoopVerdict) => v === 'stable' || v === 'open-loop';
+  const stable = points.every((p) => ok(loopVerdict(changed, p.context.model))) && judged.every((j) => ok(j.stability));
   return { judged, stable, front: points[0].context.model };
 }
 

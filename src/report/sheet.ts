@@ -56,7 +56,7 @@ export function sheetOf(r: FileResult): Sheet | undefined {
     // A figure that does not exist yet holds is an unbounded one (a gain margin nothing limits, no right-half-plane zero).
     const model = fig !== null ? formatLike(fig, q.quantity.written, kind) : outcome === 'holds' ? (e.key === 'rhp_zero' ? 'none in the right half-plane' : 'unbounded') : 'none';
     const v = judge({ ...e, typ: j.verdict.bound === 'typ' ? e.typ : undefined, min: j.verdict.bound === 'min' ? e.min : undefined, max: j.verdict.bound === 'max' ? e.max : undefined }, fig, undefined, t)[0];
-    const deviation = fig === null ? (j.stability !== 'stable' && (e.key === 'phase_margin' || e.key === 'gain_margin') ? 'loop not stable' : 'no figure') : `${offBy(v, fig, kind, t)} (${describeTolerance(t, kind)})`;
+    const deviation = fig === null ? (j.stability !== 'stable' && j.stability !== 'open-loop' && (e.key === 'phase_margin' || e.key === 'gain_margin') ? 'loop not stable' : 'no figure') : `${offBy(v, fig, kind, t)} (${describeTolerance(t, kind)})`;
     rows.push({
       key: e.key,
       where: e.source === 'table' ? `${e.label ?? e.key}${e.conditions ? `, ${e.conditions.text}` : ''}` : '',
