@@ -117,6 +117,13 @@ function knobRange(spec: KeySpec, now: number): [number, number] {
 const PER_DECADE = 6;
 
 /**
+ * Points a decade for the scan: six, fewer for a network of many nodes, whose
+ * evaluations cost a thousand times more (the 'none' statement says what was
+ * scanned, so it stays true).
+ */
+const perDecade = (ctx: RuleContext): number => (ctx.model.analysis.stamped.n > 12 ? 2 : ctx.model.analysis.stamped.n > 6 ? 4 : PER_DECADE);
+
+/**
  * The value of one knob nearest its present value at which the statement
  * holds at `at` (the typical point, or the worst point of a bound), on a log
  * grid over the knob's whole plausible range (the figure may saturate, vanish
@@ -130,7 +137,7 @@ function solveKnob(ctx: RuleContext, s: Statement, key: KeySpec, at: Values): { 
   if (!(hi > lo)) return null;
   const model = (x: number) => ctx.withChanges({ ...at, [key.key]: x });
   const ok = (x: number, strict = true) => holds(ctx, s, model(x), strict);
-  const n = Math.max(2, Math.ceil(Math.log10(hi / lo) * PER_DECADE));
+  const n = Math.max(2, Math.ceil(Math.log10(hi / lo) * perDecade(ctx)));
   const xs: number[] = [];
   for (let i = 0; i <= n; i++) xs.push(lo * (hi / lo) ** (i / n));
   const good = xs.map((x) => ok(x));
@@ -369,7 +376,7 @@ export function designChanges(ctx: RuleContext, entry: ClaimEntry, v: BoundVerdi
     }
   }
   // No single knob meets every claim: try them in pairs, nearest first.
-  if (!fixes.some((f) => f.kind === 'design' && f.meetsAll) && knobs.length >= 2) {
+  if (!fixes.some((f) => f.kind === 'design' && f.meetsAll) && knobs.length >= 2 && ctx.model.analysis.stamped.n <= 12) {
     const pair = solvePair(ctx, target, knobs.slice(0, 3), at);
     if (pair) add(pair);
   }
@@ -384,7 +391,7 @@ export function designChanges(ctx: RuleContext, entry: ClaimEntry, v: BoundVerdi
     const closest = named.length ? `; the nearest approach is at ${named.map((u) => `${u.key.key} = ${formatQuantity(u.closest, u.key.kind)}`).join(', ')}` : '';
     const edges = unmet.filter((u) => u.knifeEdge !== undefined);
     const edge = edges.length ? `; it holds only in a window narrower than three digits, around ${edges.map((u) => `${u.key.key} = ${asPrinted(u.knifeEdge!, u.key.kind)}`).join(', ')} (a knife edge, not a design change)` : '';
-    fixes.push({ kind: 'none', text: `no single value of ${knobs.map((k) => k.key).join(' or ')} written to three significant digits (scanned ${span}, ${PER_DECADE} points a decade, refined near the nearest approach) meets the claim on its own${closest}${edge}`, knobs: knobs.map((k) => k.key), range });
+    fixes.push({ kind: 'none', text: `no single value of ${knobs.map((k) => k.key).join(' or ')} written to three significant digits (scanned ${span}, ${perDecade(ctx)} points a decade, refined near the nearest approach) meets the claim on its own${closest}${edge}`, knobs: knobs.map((k) => k.key), range });
   } else if (fixes.length && !fixes.some((f) => f.kind === 'design' && f.meetsAll)) {
     const conflicts = [...new Set(fixes.flatMap((f) => (f.kind === 'design' ? f.breaks.map((b) => b.claim) : [])))];
     const names = [...new Set(fixes.flatMap((f) => (f.kind === 'design' ? Object.keys(f.changes) : [])))];

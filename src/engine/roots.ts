@@ -53,7 +53,14 @@ export function pencilRoots(A: Float64Array, B: Float64Array, n: number): Pencil
       break;
     }
     if (pass === 0) firstShift = start.shift;
-    const { roots, converged } = polish(A, B, n, start.roots, accepted);
+    // A later pass exists for roots beyond those found so far: only those are polished.
+    const fresh = pass === 0 ? start.roots : start.roots.filter((r) => Math.hypot(r.re, r.im) > far * 1.01);
+    if (pass > 0 && fresh.length === 0) {
+      shift = Math.max(far * 1e6, shift * 1e12);
+      if (!(shift < ceiling)) break;
+      continue;
+    }
+    const { roots, converged } = polish(A, B, n, fresh, accepted, start.shift);
     polishedAll &&= converged;
     // A later pass exists to find roots beyond the largest one found so far
     // (the earlier pass resolved everything below it); what it finds again
@@ -125,9 +132,26 @@ function candidateShifts(A: Float64Array, B: Float64Array, n: number): number[] 
   return [0, -0.3719 * scale, 1.913 * scale, -7.31 * scale, -0.0517 * scale, 23.7 * scale];
 }
 
-function polish(A: Float64Array, B: Float64Array, n: number, start: Root[], fixed: Root[]): { roots: Root[]; converged: boolean } {
+function polish(A: Float64Array, B: Float64Array, n: number, start: Root[], fixed: Root[], shift: number): { roots: Root[]; converged: boolean } {
   const roots = start.map((r) => ({ ...r }));
-  const done = roots.map(() => false);
+  // Shift-and-invert resolves the eigenvalues μ = 1/(σ − s) relative to the
+  // largest, that is the roots nearest the shift. A root within six decades
+  // of the nearest one is an eigenvalue the QR step resolved to about 1e-10 or
+  // better: for a network of many nodes it is taken as it is, without Newton
+  // steps or the final check (each costs a factorisation and n solves, O(n⁴)
+  // over all roots). Farther roots, where round-off splits infinite
+  // eigenvalues into spurious ones, are refined and vetted as before.
+  let nearest = Infinity;
+  for (const r of roots) nearest = Math.min(nearest, Math.hypot(r.re - shift, r.im));
+  // Clustered roots (a repeated stage, a multiple pole) are resolved only to the
+  // square root of the round-off by the QR step: those are always refined.
+  const isolated = (k: number): boolean => {
+    const size = Math.hypot(roots[k].re, roots[k].im);
+    for (let j = 0; j < roots.length; j++) if (j !== k && Math.hypot(roots[j].re - roots[k].re, roots[j].im - roots[k].im) <= 1e-3 * size) return false;
+    return true;
+  };
+  const trusted = roots.map((r, k) => n > 8 && Math.hypot(r.re - shift, r.im) <= 1e6 * nearest && isolated(k));
+  const done = trusted.slice();
   const rejected = roots.map(() => false);
   const lastStep = roots.map(() => Infinity);
   const work = workspace(n);
@@ -181,7 +205,7 @@ function polish(A: Float64Array, B: Float64Array, n: number, start: Root[], fixe
   // it is (s − r)/m). An estimate that Aberth's repulsion parked between roots,
   // or one far out where A + sB ≈ sB, fails it.
   for (let k = 0; k < roots.length; k++) {
-    if (rejected[k]) continue;
+    if (rejected[k] || trusted[k]) continue;
     const d = logDerivative(A, B, n, roots[k], work);
     if (!d) continue; // exactly singular: a root
     const t = Math.hypot(d[0], d[1]);
