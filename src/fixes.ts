@@ -306,7 +306,14 @@ function designFix(ctx: RuleContext, target: Statement, changes: Values, why: st
   const selfText = self && self.value !== null ? inOwnUnit(self, self.value) : selfFigure?.unbounded ? 'an unbounded margin (no gain increase reaches −1)' : 'no value';
   const effects: string[] = [];
   if (!selfHolds && self) effects.push(`the claim itself still fails over the ranges (${selfText} at ${self.label})`);
-  for (const b of broken) effects.push(`${b.entry.key}${b.entry.source === 'table' ? ` (${b.entry.label}, line ${b.entry.keyPos.line})` : ''} ${b.value === null ? 'has no value' : `becomes ${inOwnUnit(b, b.value)}`}${b.label !== 'typical' ? ` at ${b.label}` : ''} (claimed ${statedText(b)})`);
+  // A claim that fails already, with the same figure, is not a side effect of the change: say "still".
+  const before = ctx.recheck ? ctx.recheck({}).judged : [];
+  const unchanged = (b: Judged): boolean =>
+    before.some((x) => x.entry.key === b.entry.key && x.entry.keyPos.line === b.entry.keyPos.line && x.verdict.bound === b.verdict.bound && x.verdict.outcome === 'fails' && (x.value === b.value || (x.value !== null && b.value !== null && Math.abs(x.value - b.value) <= 1e-9 * Math.abs(x.value))));
+  for (const b of broken) {
+    const what = b.value === null ? 'has no value' : unchanged(b) ? `still fails at ${inOwnUnit(b, b.value)}` : `becomes ${inOwnUnit(b, b.value)}`;
+    effects.push(`${b.entry.key}${b.entry.source === 'table' ? ` (${b.entry.label}, line ${b.entry.keyPos.line})` : ''} ${what}${b.label !== 'typical' ? ` at ${b.label}` : ''} (claimed ${statedText(b)})`);
+  }
   if (!r.stable) effects.push('the closed loop is not stable at every operating point');
   const effect = effects.length === 0 ? 'and the other claims still hold' : `but then ${effects.join('; ')}`;
   const text = `${changeText} (${nowText}${why ? `; ${why}` : ''}) gives ${selfText}, ${effect}`;

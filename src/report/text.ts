@@ -95,7 +95,9 @@ export function textReport(results: SheetResult[], p: Paint, opts: { quiet?: boo
       for (const rel of f.related ?? []) out.push(`          ${p.dim(place(rel.line, rel.column))} ${printable(rel.message)}`);
     }
     if (!sheet && out.length) out.unshift(p.bold(path));
-    if (out.length) lines.push(...out, '');
+    // With errors only, a block with nothing to show is not listed at all.
+    const body = sheet ? out.length - 2 : out.length;
+    if (out.length && !(opts.quiet && body === 0)) lines.push(...out, '');
   }
   const s = summarize(results);
   const n = (k: number, one: string, many = `${one}s`) => `${k} ${k === 1 ? one : many}`;

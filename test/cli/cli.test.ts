@@ -104,7 +104,7 @@ describe('exit status (SPEC-FORMAT §5)', () => {
     const r = run([dir]);
     expect(r.code).toBe(0);
     expect(r.err).toBe('');
-    expect(r.out).toContain('2 specs checked: 0 errors, 0 warnings');
+    expect(r.out).toContain('2 blocks, 8 claims: 0 fail, 0 thin; 0 warnings');
   });
 
   it('1 when a spec has an error, and the other files are still reported', () => {
@@ -113,8 +113,9 @@ describe('exit status (SPEC-FORMAT §5)', () => {
     expect(r.code).toBe(1);
     expect(r.out).toContain(`${dir}/a-over.md`);
     expect(r.out).toContain(`${dir}/b-slip.md`);
-    expect(r.out).toMatch(/22:\d+ +error +DC gain claimed/);
-    expect(r.out).toContain('2 specs checked: 1 error, 1 warning');
+    expect(r.out).toMatch(/fails +dc_gain +stated 105\.0 dB +model 85\.00 dB .*a-over\.md:22:\d+/);
+    expect(r.out).toMatch(/warning prefix-slip: .*b-slip\.md:14:\d+/);
+    expect(r.out).toContain('2 blocks, 8 claims: 1 fail, 0 thin; 1 warning');
   });
 
   it('1 for input that cannot be read (a broken spec is an error)', () => {
@@ -128,7 +129,7 @@ describe('exit status (SPEC-FORMAT §5)', () => {
     const dir = folder({ 'notes.md': NOTES_PAGE, 'readme.md': '# KX-4\n' });
     const r = run([dir]);
     expect(r.code).toBe(0);
-    expect(r.out).toContain('0 specs checked');
+    expect(r.out).toContain('0 blocks, 0 claims');
   });
 
   const usage: Array<[string, string[], RegExp]> = [
@@ -201,7 +202,7 @@ describe('--quiet', () => {
     expect(loud.out).toContain(`${dir}/slip.md`);
     const quiet = run(['--quiet', dir]);
     expect(quiet.code).toBe(1);
-    expect(quiet.out).toContain('dc-gain');
+    expect(quiet.out).toMatch(/fails +dc_gain/);
     expect(quiet.out).not.toContain('prefix-slip');
     expect(quiet.out).not.toMatch(/^\s+\d+:\d+\s+warning/m);
     expect(quiet.out).not.toContain(`${dir}/slip.md`);
@@ -224,7 +225,8 @@ describe('--quiet', () => {
 
 describe('--format json (SPEC-FORMAT §4)', () => {
   const REQUIRED = ['rule', 'severity', 'line', 'column', 'claim', 'claimed', 'computed', 'unit', 'message', 'suggestions'];
-  const OPTIONAL = ['related', 'derivation'];
+  // `fixes` (SPEC-FORMAT §4) and `verdict` on claim findings; `waived` on accepted deviations.
+  const OPTIONAL = ['related', 'derivation', 'verdict', 'fixes', 'waived'];
 
   it('has exactly files[] and summary, each file exactly path, skipped and findings', () => {
     const dir = folder({ 'a-over.md': overclaimedGainSpec(ADC_DRIVER), 'b-notes.md': NOTES_PAGE, 'c-slip.md': consistentSpec(SLIPPED_RZ) });
@@ -518,7 +520,7 @@ describe('colour', () => {
     const dir = folder({ 'over.md': overclaimedGainSpec(ADC_DRIVER) });
     const plain = spawnCli(['over.md'], { cwd: dir });
     expect(plain.code).toBe(1);
-    expect(plain.out).toContain('DC gain claimed');
+    expect(plain.out).toMatch(/fails +dc_gain +stated 105\.0 dB/);
     expect(ANSI.test(plain.out)).toBe(false);
     const forced = spawnCli(['over.md'], { cwd: dir, env: { FORCE_COLOR: '1' } });
     expect(ANSI.test(forced.out)).toBe(true);
@@ -535,8 +537,8 @@ describe('--output-file', () => {
     expect(r.code).toBe(1);
     expect(r.out).toBe('');
     const text = readFileSync(out, 'utf8');
-    expect(text).toContain('DC gain claimed');
-    expect(text).toContain('1 spec checked: 1 error, 0 warnings');
+    expect(text).toMatch(/fails +dc_gain +stated 105\.0 dB/);
+    expect(text).toContain('1 block, 4 claims: 1 fail, 0 thin; 0 warnings');
     expect(ANSI.test(text)).toBe(false);
   });
 
