@@ -7,12 +7,15 @@ import { createHash } from 'node:crypto';
 import { mkdirSync, readFileSync, renameSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import type { Finding } from './findings';
+import type { Sheet } from './report/sheet';
 
 export const DEFAULT_CACHE_DIR = '.polecheck-cache';
 
 export interface CacheEntry {
   skipped: boolean;
   findings: Finding[];
+  /** The block's review sheet, for the text report. */
+  sheet?: Sheet;
 }
 
 export const hashOf = (...parts: string[]): string => {

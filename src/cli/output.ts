@@ -1,0 +1,142 @@
+// The report in the requested format. Each writer is imported only when its
+// format is asked for (in the bundle its module is then evaluated; the text
+// writer, the default, is always at hand), so a plain check does not pay for
+// SARIF, GitLab, the reviewer report or diffs.
+
+import { pathToFileURL } from 'node:url';
+import { resolve } from 'node:path';
+import { RULES } from '../../rules';
+import type { FileResult } from '../check';
+import { paint } from '../report/style';
+import * as text from '../report/text';
+import { VERSION, type Options } from './args';
+import { docsDir, ruleDocs } from './docs';
+import type { Checked, Reviewer } from './job';
+
+/** The writer modules an output may need; only those of the requested format are loaded. */
+export interface WriterModules {
+  text: typeof import('../report/text');
+  json?: typeof import('../report/json');
+  sarif?: typeof import('../report/sarif');
+  github?: typeof import('../report/github');
+  gitlab?: typeof import('../report/gitlab');
+  review?: typeof import('../report/review');
+  diff?: typeof import('diff');
+}
+
+export type Differ = (path: string, before: string, after: string) => string;
+
+export interface Output {
+  /** The whole report, from the files' outcomes in order. */
+  render(results: Checked[]): string;
+  /** `report` in the reviewer's format: one file's section, rendered as soon as the file is checked. */
+  section?: Reviewer;
+  /** --fix-dry-run: one file's edits as a unified diff. */
+  diff?: Differ;
+}
+
+type Lazy = Exclude<keyof WriterModules, 'text'>;
+
+/** The writer modules `o` needs beyond the text writer. */
+export function modulesFor(o: Options): Lazy[] {
+  const out: Lazy[] = [];
+  if (o.command === 'report') out.push(o.format === 'json' ? 'json' : 'review');
+  else if (o.format !== 'text') out.push(o.format);
+  if (o.fixDryRun) out.push('diff');
+  return out;
+}
+
+const LOADERS: { [K in Lazy]: () => Promise<NonNullable<WriterModules[K]>> } = {
+  json: () => import('../report/json'),
+  sarif: () => import('../report/sarif'),
+  github: () => import('../report/github'),
+  gitlab: () => import('../report/gitlab'),
+  review: () => import('../report/review'),
+  diff: () => import('diff'),
+};
+
+export async function loadWriters(o: Options): Promise<WriterModules> {
+  const m: WriterModules = { text };
+  await Promise.all(
+    modulesFor(o).map(async (k) => {
+      (m as unknown as Record<string, unknown>)[k] = await LOADERS[k]();
+    }),
+  );
+  return m;
+}
+
+/** Only the reviewer writer, for a worker thread that renders sections. */
+export async function loadReviewer(color: boolean): Promise<Reviewer> {
+  const review = await LOADERS.review();
+  return reviewerFrom(review, color);
+}
+
+export const reviewerFrom = (review: NonNullable<WriterModules['review']>, color: boolean): Reviewer => {
+  const p = paint(color);
+  return (r) => review.reviewSection(r, p);
+};
+
+// Results as the writers take them: a checked file is a FileResult without its models.
+const asResults = (results: Checked[]): FileResult[] => results;
+
+const quietly = (results: FileResult[], quiet: boolean): FileResult[] =>
+  quiet ? results.map((r) => ({ ...r, findings: r.findings.filter((f) => f.severity === 'error' && !f.waived) })) : results;
+
+export function outputFrom(o: Options, color: boolean, m: WriterModules): Output {
+  const p = paint(color);
+  const need = <K extends keyof WriterModules>(k: K): NonNullable<WriterModules[K]> => {
+    const mod = m[k];
+    if (!mod) throw new Error(`the ${k} writer was not loaded`);
+    return mod as NonNullable<WriterModules[K]>;
+  };
+  const out: Output = { render: () => '' };
+  if (o.fixDryRun) {
+    const { FILE_HEADERS_ONLY, createTwoFilesPatch } = need('diff');
+    out.diff = (path, before, after) => createTwoFilesPatch(path, path, before, after, undefined, undefined, { context: 3, headerOptions: FILE_HEADERS_ONLY });
+  }
+  if (o.command === 'report') {
+    if (o.format === 'json') {
+      const { jsonReport } = need('json');
+      out.render = (results) => jsonReport(asResults(results));
+    } else {
+      const review = need('review');
+      out.section = reviewerFrom(review, color);
+      // The sections were rendered file by file; the closing lines come last.
+      out.render = (results) => results.map((r) => r.section ?? '').join('') + review.reviewClosing(p);
+    }
+    return out;
+  }
+  switch (o.format) {
+    case 'json': {
+      const { jsonReport } = need('json');
+      out.render = (results) => jsonReport(asResults(results), { quiet: o.quiet });
+      break;
+    }
+    case 'sarif': {
+      const { sarifReport } = need('sarif');
+      // The rule pages ship with the package; link them where it is installed.
+      out.render = (results) =>
+        sarifReport(asResults(results), {
+          version: VERSION,
+          rules: RULES,
+          docs: ruleDocs(),
+          docsBase: pathToFileURL(docsDir()).href,
+          informationUri: pathToFileURL(resolve(docsDir(), '..', 'README.md')).href,
+        });
+      break;
+    }
+    case 'github': {
+      const { githubReport } = need('github');
+      out.render = (results) => githubReport(quietly(asResults(results), o.quiet));
+      break;
+    }
+    case 'gitlab': {
+      const { gitlabReport } = need('gitlab');
+      out.render = (results) => gitlabReport(quietly(asResults(results), o.quiet));
+      break;
+    }
+    default:
+      out.render = (results) => text.textReport(asResults(results), p, { quiet: o.quiet });
+  }
+  return out;
+}

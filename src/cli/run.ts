@@ -1,0 +1,198 @@
+// The command: dispatch to check, report, rules, explain or schema; for a
+// check, read the files one by one, keep what the output needs of each, then
+// fix, render and choose the exit status. `run` is the process's way in
+// (writers loaded on demand, worker threads for a large folder); src/cli.ts
+// offers the same command synchronously, in this thread, for tests.
+
+import { readFileSync, writeFileSync } from 'node:fs';
+import { availableParallelism } from 'node:os';
+import { join, resolve } from 'node:path';
+import { RULES } from '../../rules';
+import { ResultCache, hashOf } from '../cache';
+import { type Config, ConfigError, defaultConfig, findConfig, loadConfig } from '../config';
+import { useColor } from '../report/style';
+import { summarize } from '../report/summary';
+import { todayIso } from '../waivers';
+import { HELP, type Options, UsageError, VERSION, parseArgs } from './args';
+import { selectFiles } from './discover';
+import { docsDir } from './docs';
+import type { JobSettings, Outcome } from './job';
+import { type Output, loadWriters, outputFrom } from './output';
+import { type Plan, checkInThread } from './plan';
+import { checkInWorkers } from './pool';
+import { writeFixes } from './write';
+
+export interface MainIO {
+  stdout: (s: string) => void;
+  stderr: (s: string) => void;
+  env: NodeJS.ProcessEnv;
+  isTTY: boolean;
+  cwd?: string;
+}
+
+/** Entries of an earlier layout (without the review sheet) are not reused under the same version. */
+const CACHE_FORMAT = 'findings+sheet';
+
+export type Prepared = Plan | { kind: 'schema'; which: 'spec' | 'config' };
+
+/** Parses the arguments and does what needs no file: help, version, rules, explain. Returns the exit status when done. */
+export function prepare(argv: string[], io: MainIO): Prepared | number {
+  let o: Options;
+  try {
+    o = parseArgs(argv);
+  } catch (err) {
+    if (err instanceof UsageError) {
+      io.stderr(`polecheck: ${err.message}\n`);
+      return 2;
+    }
+    throw err;
+  }
+  if (o.command === 'help') {
+    io.stdout(`${HELP}\n`);
+    return 0;
+  }
+  if (o.command === 'version') {
+    io.stdout(`${VERSION}\n`);
+    return 0;
+  }
+  if (o.command === 'rules') {
+    const w = Math.max(...RULES.map((r) => r.id.length));
+    io.stdout(`${RULES.map((r) => `${r.id.padEnd(w)}  ${r.severity.padEnd(7)}  ${r.description}`).join('\n')}\n`);
+    return 0;
+  }
+  if (o.command === 'explain') {
+    const id = o.paths[0];
+    const rule = RULES.find((r) => r.id === id);
+    if (!rule) {
+      io.stderr(`polecheck: unknown rule '${id ?? ''}'; 'polecheck rules' lists them\n`);
+      return 2;
+    }
+    try {
+      io.stdout(readFileSync(join(docsDir(), `${rule.id}.md`), 'utf8'));
+    } catch {
+      io.stdout(`${rule.id}: ${rule.description}\n`);
+    }
+    return 0;
+  }
+  if (o.command === 'schema') {
+    // `polecheck schema` for specs, `polecheck schema config` for polecheck.yaml.
+    const which = o.paths[0] ?? 'spec';
+    if (which !== 'spec' && which !== 'config') {
+      io.stderr(`polecheck: schema takes \`spec\` (default) or \`config\`, got '${which}'\n`);
+      return 2;
+    }
+    return { kind: 'schema', which };
+  }
+
+  const cwd = io.cwd ?? process.cwd();
+  let config: Config;
+  try {
+    const found = o.config ?? findConfig(cwd);
+    config = found ? loadConfig(found) : defaultConfig(cwd);
+  } catch (err) {
+    if (err instanceof ConfigError) {
+      io.stderr(`polecheck: ${err.message}\n`);
+      return 2;
+    }
+    throw err;
+  }
+
+  let files: string[];
+  try {
+    files = selectFiles(o, config, cwd);
+  } catch (err) {
+    if (err instanceof UsageError) {
+      io.stderr(`polecheck: ${err.message}\n`);
+      return 2;
+    }
+    throw err;
+  }
+
+  const color = o.outputFile ? false : useColor(io.env, io.isTTY);
+  // One date for the whole run, in every thread: waiver expiry does not depend on which thread checked a file.
+  const job: JobSettings = { check: { rules: config.rules, tolerances: config.tolerances, today: todayIso() } };
+  if (o.fix || o.fixDryRun) job.fix = { bounds: o.fixBounds, recheck: !o.fixDryRun };
+  if (o.command === 'report' && o.format !== 'json') job.review = { color };
+  // The cache serves plain checks only: reports, fixes and their diffs need the models.
+  const useCache = o.cache && o.command === 'check' && !o.fix && !o.fixDryRun;
+  const cache = useCache ? new ResultCache(resolve(cwd, o.cacheLocation), hashOf(VERSION, CACHE_FORMAT, JSON.stringify(config.rules), JSON.stringify(config.tolerances), new Date().toISOString().slice(0, 10))) : undefined;
+  return { kind: 'files', o, files, cwd, color, job, cache };
+}
+
+export function printSchema(which: 'spec' | 'config', io: MainIO, m: typeof import('../schema-json')): number {
+  io.stdout(`${JSON.stringify(which === 'config' ? m.configSchema() : m.jsonSchema(), null, 2)}\n`);
+  return 0;
+}
+
+/** Writes the fixes, renders the report and returns the exit status. */
+export function finish(plan: Plan, outcomes: Outcome[], output: Output, io: MainIO): number {
+  const { o } = plan;
+  if (o.fix || o.fixDryRun) {
+    const status = writeFixes(outcomes, io, plan.cwd, o.fixDryRun ? output.diff : undefined);
+    if (status !== undefined) return status;
+  }
+  const text = output.render(outcomes);
+  if (o.outputFile) {
+    try {
+      writeFileSync(o.outputFile, text);
+    } catch (err) {
+      io.stderr(`polecheck: cannot write ${o.outputFile}: ${(err as Error).message}\n`);
+      return 2;
+    }
+  } else io.stdout(text);
+  if (o.command === 'report') return 0;
+  const s = summarize(outcomes);
+  if (s.errors > 0) return 1;
+  if (o.maxWarnings !== undefined && s.warnings > o.maxWarnings) return 1;
+  return 0;
+}
+
+/**
+ * Folders of at least this many files are checked in worker threads. Measured
+ * on 2 cores with generated specs: a worker is online about 45 ms after it is
+ * asked for, and two workers spend 20–35 % more CPU time in all than one
+ * thread (each has its own cold JIT; the two contend). With both cores free
+ * that breaks even near 8 files; on a busy machine the workers lost at every
+ * size tried (8 to 2,400 files). A few dozen keeps the small runs of a
+ * pre-commit hook in one thread and gives large folders both cores.
+ */
+export const WORKER_THRESHOLD = 24;
+
+/**
+ * How many worker threads to start for `files` files: one per core, the main
+ * thread only reading and dealing out files (see src/cli/pool.ts for why it
+ * checks none) — one even on a single core, since a worker's heap can be
+ * bounded and the main thread's cannot (the same CPU time was measured for a
+ * folder checked by one worker as in the main thread). POLECHECK_WORKERS=N
+ * overrides the choice (0: none), for tests and measurements; one file never
+ * gets a worker.
+ */
+export function workerCount(files: number, env: NodeJS.ProcessEnv, cores: () => number): number {
+  if (files < 2) return 0;
+  const forced = env.POLECHECK_WORKERS;
+  if (forced !== undefined && /^\d+$/.test(forced)) return Math.min(Number(forced), files);
+  if (files < WORKER_THRESHOLD) return 0;
+  return Math.max(1, cores());
+}
+
+/** The old-generation heap of a worker: far above what one spec needs (tens of MiB), low enough that V8 sizes the heap for a small program. */
+export const WORKER_HEAP_MB = 256;
+
+/** Files per message: up to 4 (a message costs far less than a check), fewer in a small folder so that no worker idles at the end. */
+export const batchSize = (files: number, workers: number): number => Math.max(1, Math.min(4, Math.ceil(files / (workers * 8))));
+
+export interface RunOptions {
+  /** The worker thread's entry (dist/worker.js beside the bundle); without it, every file is checked in this thread. */
+  workerEntry?: URL;
+}
+
+/** The command as the process runs it: writers loaded on demand, a large folder checked in worker threads. */
+export async function run(argv: string[], io: MainIO, opts: RunOptions = {}): Promise<number> {
+  const plan = prepare(argv, io);
+  if (typeof plan === 'number') return plan;
+  if (plan.kind === 'schema') return printSchema(plan.which, io, await import('../schema-json'));
+  const output = outputFrom(plan.o, plan.color, await loadWriters(plan.o));
+  const workers = opts.workerEntry ? workerCount(plan.files.length, io.env, () => availableParallelism()) : 0;
+  const outcomes = workers > 0 && opts.workerEntry ? await checkInWorkers(plan, output.section, { entry: opts.workerEntry, workers, mainChecks: false, batch: batchSize(plan.files.length, workers), maxOldGenerationSizeMb: WORKER_HEAP_MB }) : checkInThread(plan, output.section);
+  return finish(plan, outcomes, output, io);
+}
