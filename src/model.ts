@@ -5,6 +5,8 @@ import { type LoopAnalysis, type NetworkAnalysis, analyzeLoop, analyzeNetwork } 
 import { type Figure, figure, missing } from './engine/figure';
 import { NetworkError } from './engine/network';
 import { type Root, rootHz } from './engine/roots';
+import { closedLoopFigures, closedLoopHand } from './closed-loop-figures';
+import { noiseHand, noisePowerFigures } from './noise-power';
 import type { HandEstimates, Topology, Values } from './topologies/types';
 
 export interface Model {
@@ -121,6 +123,19 @@ class LazyModel implements Model {
     this.extraDone = true;
     const more = finite({ ...this.topology.largeSignal(this.values), ...this.topology.figures?.(this.values) });
     for (const [k, f] of Object.entries(more)) if (!(k in figures)) figures[k] = f;
+    // Noise and power figures cost from nothing (a sum) to an integral over frequency: each is computed when first read.
+    for (const [k, make] of Object.entries({ ...noisePowerFigures(this), ...closedLoopFigures(this) })) {
+      if (k in figures) continue;
+      Object.defineProperty(figures, k, {
+        configurable: true,
+        enumerable: true,
+        get: () => {
+          const f = finite({ [k]: make() })[k];
+          Object.defineProperty(figures, k, { value: f, configurable: true, enumerable: true, writable: true });
+          return f;
+        },
+      });
+    }
   }
 
   get loop(): LoopAnalysis {
@@ -128,7 +143,12 @@ class LazyModel implements Model {
   }
 
   private get handEstimates(): HandEstimates {
-    return (this.handCache ??= this.topology.hand(this.values, this.exact));
+    if (!this.handCache) {
+      const h = this.topology.hand(this.values, this.exact);
+      const closed = closedLoopHand(this);
+      this.handCache = { figures: { ...noiseHand(this), ...closed.figures, ...h.figures }, caveats: [...h.caveats, ...closed.caveats] };
+    }
+    return this.handCache;
   }
 
   get hand(): Record<string, Figure> {

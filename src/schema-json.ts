@@ -7,7 +7,8 @@ import { type Kind, UNITS } from './quantity';
 import { RULES } from '../rules';
 import { FORMAT_VERSION, TOP_KEYS } from './spec/schema';
 import { TOPOLOGIES } from './topologies';
-import type { KeySpec, Topology } from './topologies/types';
+import { networkTopology } from './topologies/network';
+import type { ClaimSpec, KeySpec, Topology } from './topologies/types';
 
 type Schema = Record<string, unknown>;
 
@@ -43,19 +44,33 @@ const kindDefs = (): Schema => {
 };
 
 function valueSchema(k: KeySpec): Schema {
+  // The closed-loop gain: one signed value, bare, in V/V or in dB (spec/closed-loop-conditions.ts).
+  if (k.key === 'gain') return { description: k.description, anyOf: [{ type: 'number', not: { const: 0 } }, { type: 'string', pattern: `^\\s*${NUMBER}\\s*(?:V/V|dB)?\\s*$` }] };
   const forms: Schema[] = [{ $ref: `#/definitions/${k.kind}-range` }];
+  if (k.key === 'step') forms.push({ type: 'object', properties: { input: { $ref: '#/definitions/voltage' }, output: { $ref: '#/definitions/voltage' } }, additionalProperties: false, minProperties: 1, maxProperties: 1 });
   if (k.kind === 'ratio') forms.push({ type: 'number', exclusiveMinimum: 0, ...(k.max !== undefined ? { maximum: k.max } : {}) });
   if (k.allowZero) forms.push({ const: 0 }, { const: '0' });
   if (k.open) forms.push({ const: 'open' });
   return { description: k.description, anyOf: forms };
 }
 
-const bounds = (kind: Kind): Schema => ({
+const bounds = (kind: Kind, claim?: ClaimSpec): Schema => ({
   anyOf: [
     { $ref: `#/definitions/${kind}` },
     {
       type: 'object',
-      properties: { min: { $ref: `#/definitions/${kind}` }, typ: { $ref: `#/definitions/${kind}` }, max: { $ref: `#/definitions/${kind}` } },
+      properties: {
+        min: { $ref: `#/definitions/${kind}` },
+        typ: { $ref: `#/definitions/${kind}` },
+        max: { $ref: `#/definitions/${kind}` },
+        // A claim's own arguments (`at: 1 MHz`, `band: [10 Hz, 1 MHz]`).
+        ...Object.fromEntries((claim?.args ?? []).map((a) => [
+          a.key,
+          a.valueKeys.length === 1
+            ? { description: a.description, $ref: `#/definitions/${a.kind}` }
+            : { description: a.description, type: 'array', items: { $ref: `#/definitions/${a.kind}` }, minItems: 2, maxItems: 2 },
+        ])),
+      },
       additionalProperties: false,
       minProperties: 1,
     },
@@ -78,7 +93,7 @@ function topologyBranch(t: Topology): Schema {
       properties: {
         params: section(t.params, true),
         conditions: section(t.conditions, false),
-        claims: { type: 'object', properties: Object.fromEntries(t.claims.map((c) => [c.key, { description: c.description, ...bounds(c.kind) }])), additionalProperties: false },
+        claims: { type: 'object', properties: Object.fromEntries(t.claims.map((c) => [c.key, { description: c.description, ...bounds(c.kind, c) }])), additionalProperties: false },
         network: false,
       },
       required: ['params'],
@@ -94,12 +109,18 @@ function networkBranch(): Schema {
   const value = (kind: Kind) => ({ $ref: `#/definitions/${kind}-range` });
   const element = {
     oneOf: [
-      { type: 'object', properties: { kind: { const: 'resistor' }, between: pair, value: value('resistance') }, required: ['kind', 'between', 'value'], additionalProperties: false },
+      { type: 'object', properties: { kind: { const: 'resistor' }, between: pair, value: value('resistance'), noise: { enum: ['thermal', 'none'] } }, required: ['kind', 'between', 'value'], additionalProperties: false },
       { type: 'object', properties: { kind: { const: 'capacitor' }, between: pair, value: value('capacitance') }, required: ['kind', 'between', 'value'], additionalProperties: false },
-      { type: 'object', properties: { kind: { const: 'transconductance' }, into: NODE, from: NODE, control: pair, value: value('conductance') }, required: ['kind', 'into', 'control', 'value'], additionalProperties: false },
+      {
+        type: 'object',
+        properties: { kind: { const: 'transconductance' }, into: NODE, from: NODE, control: pair, value: value('conductance'), noise: { enum: ['none', 'channel'] }, gamma: { anyOf: [{ type: 'number', exclusiveMinimum: 0 }, { $ref: '#/definitions/ratio' }] } },
+        required: ['kind', 'into', 'control', 'value'],
+        additionalProperties: false,
+      },
     ],
   };
-  const claims = TOPOLOGIES[0].claims.filter((c) => c.key !== 'slew_rate');
+  // Keys and claims of any user-defined network (they do not depend on its elements).
+  const net = networkTopology({ input: 'in', output: 'out', nodes: ['in', 'out'], elements: [] });
   return {
     if: { properties: { topology: { const: 'network' } }, required: ['topology'] },
     then: {
@@ -111,10 +132,10 @@ function networkBranch(): Schema {
           additionalProperties: false,
         },
         params: false,
-        conditions: section(TOPOLOGIES[0].conditions, false),
+        conditions: section(net.conditions, false),
         claims: {
           type: 'object',
-          properties: Object.fromEntries([...claims.map((c) => [c.key, bounds(c.kind)]), ['bandwidth', bounds('frequency')]]),
+          properties: Object.fromEntries(net.claims.map((c) => [c.key, { description: c.description, ...bounds(c.kind, c) }])),
           additionalProperties: false,
         },
       },

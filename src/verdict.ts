@@ -82,9 +82,12 @@ export const show = (value: number | null, kind: Kind): string => (value === nul
 export const percent = (p: number): string =>
   !Number.isFinite(p) || p >= 1e6 ? 'more than a million' : p >= 100 ? Math.round(p).toString() : p.toPrecision(2);
 
+/** Figures whose distance from a claim reads best as a percentage (noise, power, currents; times and overshoot, whose tolerance is relative). */
+const RELATIVE_WORDING: ReadonlySet<Kind> = new Set(['noise', 'voltage', 'current', 'power', 'fom', 'time', 'ratio']);
+
 /** How far off, in words: "17.9° short", "20 % low", "3.2 dB high". */
 export function offBy(v: BoundVerdict, computed: number, kind: Kind, t?: Tolerance): string {
-  const rel = kind === 'frequency' || kind === 'slew';
+  const rel = kind === 'frequency' || kind === 'slew' || RELATIVE_WORDING.has(kind);
   const size = rel ? Math.abs((100 * v.delta) / v.claimed) : Math.abs(v.delta);
   // The tolerance in the same terms, and enough digits that the rounded
   // deviation falls on the same side of it as the verdict ("10.3 % high,

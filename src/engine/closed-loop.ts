@@ -164,23 +164,29 @@ export interface Crossing {
  * which also ends the approach to a crossing, whose safe steps shrink
  * towards it.
  */
-export function scanCrossings(m: Modes, targets: Target[], t0: number, t1: number, visit: (c: Crossing) => boolean): void {
+export function scanCrossings(m: Modes, targets: Target[], t0: number, t1: number, visit: (c: Crossing) => boolean): boolean {
   const minStep = Math.max(1e-12 * (t1 - t0), 1e-300);
+  const count = targets.length;
   const f = (j: number, t: number): number => m.value(t, targets[j].k) - targets[j].level;
   let t = t0;
-  let prev = targets.map((_, j) => f(j, t));
+  // Two buffers, swapped: the scan runs inside every solver step.
+  let prev = new Float64Array(count);
+  let next = new Float64Array(count);
+  for (let j = 0; j < count; j++) prev[j] = f(j, t);
+  const found: Crossing[] = [];
   let guard = 0;
-  while (t < t1 && guard++ < 2_000_000) {
+  while (t < t1) {
+    if (guard++ > SCAN_BUDGET) return false;
     let h = Infinity;
-    for (let j = 0; j < targets.length; j++) {
+    for (let j = 0; j < count; j++) {
       const { k } = targets[j];
       h = Math.min(h, safeStep(prev[j], m.value(t, k + 1), m.envelope(t, k + 2)));
     }
     h = Math.min(Math.max(h, minStep), t1 - t);
     const tn = t + h;
-    const next = targets.map((_, j) => f(j, tn));
-    const found: Crossing[] = [];
-    for (let j = 0; j < targets.length; j++) {
+    found.length = 0;
+    for (let j = 0; j < count; j++) {
+      next[j] = f(j, tn);
       if (next[j] === 0) {
         // Landed exactly on the level (the approach to a crossing can): it is
         // a crossing if the value just after has changed side.
@@ -190,45 +196,77 @@ export function scanCrossings(m: Modes, targets: Target[], t0: number, t1: numbe
         continue;
       }
       if (prev[j] * next[j] >= 0) continue;
-      const g = (x: number) => f(j, x);
-      found.push({ t: refine(g, t, tn, prev[j], next[j]), target: j, rising: next[j] > prev[j] });
+      found.push({ t: refine((x) => f(j, x), t, tn, prev[j], next[j]), target: j, rising: next[j] > prev[j] });
     }
-    found.sort((a, b) => a.t - b.t);
-    for (const c of found) if (!visit(c)) return;
+    if (found.length > 1) found.sort((a, b) => a.t - b.t);
+    for (const c of found) if (!visit(c)) return true;
     t = tn;
+    const swap = prev;
     prev = next;
+    next = swap;
   }
+  return true;
+}
+
+/** Steps one scan may take: some ten per period of 2,000 periods of ringing. */
+const SCAN_BUDGET = 30_000;
+/** Periods of ringing beyond which a step response is not resolved (a loop with a Q of a hundred settles in a few hundred). */
+const MAX_PERIODS = 2_000;
+
+/**
+ * A step response that rings for more periods than a scan can follow before
+ * `tEnd` (a resonance of absurd Q, at values beyond any real design): the
+ * frequency and Q of its worst mode, or undefined when it can be followed.
+ */
+export function unresolvedRinging(m: Modes, tEnd: number): { hz: number; q: number } | undefined {
+  let worst: { periods: number; hz: number; q: number } | undefined;
+  for (let i = 0; i < m.poles.length; i++) {
+    const p = m.poles[i];
+    if (p.im === 0 || !(p.re < 0)) continue;
+    const c = Math.hypot(m.coef[i].re, m.coef[i].im);
+    if (!(c > 0)) continue;
+    // Time until this mode alone is below 10⁻¹⁵ of the step, or tEnd.
+    const life = Math.min(tEnd, Math.max(0, Math.log(c / 1e-15)) / -p.re);
+    const periods = (Math.abs(p.im) * life) / TWO_PI;
+    if (periods > MAX_PERIODS && (!worst || periods > worst.periods)) worst = { periods, hz: Math.hypot(p.re, p.im) / TWO_PI, q: Math.hypot(p.re, p.im) / (2 * -p.re) };
+  }
+  return worst && { hz: worst.hz, q: worst.q };
 }
 
 // ---------------------------------------------------------------------------
 // Figures of a step response e(t) = y(t)/y(∞) − 1
 
-/** Time after which |e| stays within `band`: its last crossing of ±band, 0 if it never leaves the band. */
-export function settlingTime(m: Modes, band: number): { t: number; crossings: number } {
+/**
+ * Time after which |e| stays within `band`: its last crossing of ±band, 0 if
+ * it never leaves the band; null when the response rings beyond what a scan
+ * resolves (see unresolvedRinging).
+ */
+export function settlingTime(m: Modes, band: number): { t: number; crossings: number } | null {
   if (!m.stable) return { t: Infinity, crossings: 0 };
   const tEnd = m.envelopeBelow(band);
   if (tEnd === 0) return { t: 0, crossings: 0 };
+  if (unresolvedRinging(m, tEnd)) return null;
   let last = 0;
   let count = 0;
-  scanCrossings(m, [{ k: 0, level: band }, { k: 0, level: -band }], 0, tEnd, (c) => {
+  const done = scanCrossings(m, [{ k: 0, level: band }, { k: 0, level: -band }], 0, tEnd, (c) => {
     last = c.t;
     count++;
     return true;
   });
-  // No crossing and |e(0)| beyond the band cannot happen for a decaying sum; say 0 then.
-  return { t: last, crossings: count };
+  return done ? { t: last, crossings: count } : null;
 }
 
-/** Largest value of e over t ≥ 0 (0 when the response never passes its final value) and when it occurs. */
-export function overshoot(m: Modes): { value: number; t: number } {
+/** Largest value of e over t ≥ 0 (0 when the response never passes its final value) and when it occurs; null if unresolved. */
+export function overshoot(m: Modes): { value: number; t: number } | null {
   let best = Math.max(0, m.value(0));
   let at = 0;
   if (!m.stable) return { value: Infinity, t: 0 };
   // Beyond where the envelope falls below the best peak so far, no later peak can exceed it.
   const tEnd = m.envelopeBelow(Math.max(best, 1e-12));
   if (tEnd === 0) return { value: best, t: at };
+  if (unresolvedRinging(m, m.envelopeBelow(1e-3))) return null;
   let limit = tEnd;
-  scanCrossings(m, [{ k: 1, level: 0 }], 0, tEnd, (c) => {
+  const done = scanCrossings(m, [{ k: 1, level: 0 }], 0, tEnd, (c) => {
     if (c.t > limit) return false;
     if (!c.rising) {
       const v = m.value(c.t);
@@ -240,10 +278,10 @@ export function overshoot(m: Modes): { value: number; t: number } {
     }
     return c.t < limit;
   });
-  return { value: best, t: at };
+  return done ? { value: best, t: at } : null;
 }
 
-/** 10–90 % rise time: first reaching 10 % of the final value to first reaching 90 %. */
+/** 10–90 % rise time: first reaching 10 % of the final value to first reaching 90 %; null if unresolved. */
 export function riseTime(m: Modes): { t10: number; t90: number } | null {
   if (!m.stable) return null;
   const e0 = m.value(0);
@@ -251,6 +289,7 @@ export function riseTime(m: Modes): { t10: number; t90: number } | null {
   let t90 = e0 >= -0.1 ? 0 : NaN;
   if (!Number.isNaN(t10) && !Number.isNaN(t90)) return { t10, t90 };
   const tEnd = m.envelopeBelow(0.05);
+  if (unresolvedRinging(m, tEnd)) return null;
   scanCrossings(m, [{ k: 0, level: -0.9 }, { k: 0, level: -0.1 }], 0, tEnd, (c) => {
     if (c.target === 0 && c.rising && Number.isNaN(t10)) t10 = c.t;
     if (c.target === 1 && c.rising && Number.isNaN(t90)) t90 = c.t;
@@ -427,49 +466,56 @@ export function firstFall(f: FactoredResponse, level: number): number | null {
   return null;
 }
 
+/** d ln|H(jω)|/d ln ω from the roots: Σ ±ω(ω − b)/(a² + (ω − b)²) over the roots a + jb (+ for zeros). */
+export function magSlope(f: FactoredResponse, w: number): number {
+  let sum = f.originZeros;
+  const { re, im, sign } = f;
+  for (let i = 0; i < re.length; i++) {
+    const u = w - im[i];
+    sum += (sign[i] * w * u) / (re[i] * re[i] + u * u);
+  }
+  return sum;
+}
+
 /**
- * Largest ln|H(jω)| over ω > 0 and where it is, by branch and bound: on a
- * band [x0, x1] of ln ω where the slope of ln|H| is at most L, ln|H| stays
- * below (g0 + g1)/2 + L·(x1 − x0)/2; bands that cannot beat the best value
- * found are dropped, the others halved, until the bound is within `tol`.
+ * Largest ln|H(jω)| over ω ≥ 0 and where it is: the maxima are where the
+ * slope d ln|H|/d ln ω falls through zero. The slope is sampled at 40 points
+ * a decade and at every root's break points (a resonance's half-power points
+ * among them, so no peak lies between two samples), each fall through zero
+ * refined by regula falsi; the DC value counts too. Null when the response
+ * overflows (values beyond what double precision resolves).
  */
-export function peakMagnitude(f: FactoredResponse, tol = 1e-9): { lnMag: number; w: number } {
-  const g = (x: number): number => f.lnMag(Math.exp(x));
+export function peakMagnitude(f: FactoredResponse): { lnMag: number; w: number } | null {
   const lo = f.lnMin - 3 * Math.LN10;
   const hi = f.lnMax + 3 * Math.LN10;
-  const grid = [lo, ...f.breaks().filter((x) => x > lo && x < hi), hi].sort((x, y) => x - y);
-  const vals = grid.map(g);
-  let best = -Infinity;
-  let at = lo;
-  vals.forEach((v, i) => {
-    if (v > best) {
-      best = v;
-      at = grid[i];
+  const perDecade = 40;
+  const count = Math.max(2, Math.ceil(((hi - lo) / Math.LN10) * perDecade));
+  const grid: number[] = [];
+  for (let i = 0; i <= count; i++) grid.push(lo + ((hi - lo) * i) / count);
+  for (const x of f.breaks()) if (x > lo && x < hi) grid.push(x);
+  grid.sort((x, y) => x - y);
+  const slope = (x: number) => magSlope(f, Math.exp(x));
+  let best = f.lnGain;
+  let at = -Infinity;
+  const consider = (x: number) => {
+    const g = f.lnMag(Math.exp(x));
+    if (g > best) {
+      best = g;
+      at = x;
     }
-  });
-  // DC itself: the response is flat below every root.
-  const dc = f.lnGain;
-  if (dc > best) {
-    best = dc;
-    at = -Infinity;
+  };
+  let d0 = slope(grid[0]);
+  if (!Number.isFinite(d0)) return null;
+  for (let i = 1; i < grid.length; i++) {
+    const d1 = slope(grid[i]);
+    if (!Number.isFinite(d1)) return null;
+    if (d0 > 0 && d1 <= 0) consider(d1 === 0 ? grid[i] : refine(slope, grid[i - 1], grid[i], d0, d1));
+    d0 = d1;
   }
-  const stack: Array<[number, number, number, number]> = [];
-  for (let i = 1; i < grid.length; i++) stack.push([grid[i - 1], vals[i - 1], grid[i], vals[i]]);
-  let budget = 200_000;
-  while (stack.length && budget-- > 0) {
-    const [x0, g0, x1, g1] = stack.pop()!;
-    const L = f.magSlopeBound(Math.exp(x0), Math.exp(x1));
-    if ((g0 + g1) / 2 + (L * (x1 - x0)) / 2 <= best + tol) continue;
-    const xm = 0.5 * (x0 + x1);
-    const gm = g(xm);
-    if (gm > best) {
-      best = gm;
-      at = xm;
-    }
-    if (x1 - x0 < 1e-13) continue;
-    stack.push([x0, g0, xm, gm], [xm, gm, x1, g1]);
-  }
-  return { lnMag: best, w: Math.exp(at) };
+  // Rising to the top of the search: the response levels off above every root.
+  if (d0 > 0) consider(grid[grid.length - 1]);
+  if (!Number.isFinite(best)) return null;
+  return { lnMag: best, w: at === -Infinity ? 0 : Math.exp(at) };
 }
 
 // ---------------------------------------------------------------------------
@@ -641,7 +687,7 @@ export interface LargeStepSettling {
   slewingUntil: number;
   /** Largest |gm·v_id|/i_tail: how far the pair was driven (> 1: it slewed). */
   peakDrive: number;
-  /** From here on the response is the exact linear one (the pair within 1 % of linear). */
+  /** From here on the response is the exact linear one (gm·|v_id| below LINEAR_DRIVE·i_tail for good). */
   linearFrom: number;
   /** Accepted and rejected integration steps. */
   steps: number;
@@ -655,8 +701,10 @@ const BDF_A = 1 / (GAMMA * (2 - GAMMA));
 const BDF_B = ((1 - GAMMA) * (1 - GAMMA)) / (GAMMA * (2 - GAMMA));
 /** Local error constant of TR-BDF2: one step from the exact solution misses it by LTE_C·h³·y''' (R. E. Bank et al., 1985; checked in test/engine/closed-loop.test.ts). */
 export const LTE_C = (3 * GAMMA * GAMMA - 4 * GAMMA + 2) / (12 * (2 - GAMMA));
-/** Drive below which the pair is taken as linear: tanh(x)/x = 1 − x²/3 + …, 3·10⁻⁵ off at x = 0.01. */
-const LINEAR_DRIVE = 0.01;
+/** Largest Q of a closed-loop pair the large-signal estimate integrates through (Q = 20: about 3° of phase margin). */
+const MAX_LARGE_Q = 20;
+/** Drive below which the pair is taken as linear: tanh(x)/x = 1 − x²/3 + …, 3·10⁻⁴ off at x = 0.03. */
+const LINEAR_DRIVE = 0.03;
 
 /**
  * Settling after a step of the loop's input that moves the output by
@@ -672,9 +720,10 @@ const LINEAR_DRIVE = 0.01;
  * Trans. CAD 4 (1985) 436–451; the error estimate filtered through
  * (M − d·h·J)⁻¹ as in M. E. Hosea, L. F. Shampine, "Analysis and
  * implementation of TR-BDF2", Appl. Numer. Math. 20 (1996) 21–37), which
- * takes a singular C (nodes without capacitance) in its stride. Once the
- * pair is back within 1 % of linear for good (bounded by the modes of the
- * remaining deviation), the rest is the exact linear response from that
+ * takes a singular C (nodes without capacitance) in its stride; relative
+ * error per step 10⁻⁵ of each node's swing. Once gm·|v_id| stays below
+ * 0.03·i_tail for good (bounded by the modes of the remaining deviation;
+ * tanh(x)/x is then within 3·10⁻⁴ of 1), the rest is the exact linear response from that
  * state, and the last exit from the band is found on it by the same scan as
  * the small-signal settling. The input's own capacitive coupling (cIn) is
  * not part of this model.
@@ -693,6 +742,13 @@ export function largeStepSettling(st: Stamped, beta: number, poles: Root[], pair
   const u = outputStep / Math.abs(perVolt[out]);
   const yFinal = perVolt.map((v) => v * u);
   const target = yFinal[out];
+  // A loop that rings with a Q above MAX_LARGE_Q (a phase margin of a few
+  // degrees) would be integrated through hundreds of periods of slewing and
+  // ringing: no real design, and not worth the time.
+  for (const p of poles) {
+    const q = Math.hypot(p.re, p.im) / (2 * -p.re);
+    if (p.im !== 0 && q > MAX_LARGE_Q) return `the closed loop rings at ${(Math.hypot(p.re, p.im) / TWO_PI).toPrecision(3)} Hz with Q = ${q.toPrecision(3)}, beyond what the large-signal estimate integrates through (Q ≤ ${MAX_LARGE_Q})`;
+  }
   const basis = ModalBasis.of(Gc, C, n, poles);
   if (!basis) return 'the closed-loop modes are too close to separate';
   const k = pair.tail / pair.gm;
@@ -723,7 +779,7 @@ export function largeStepSettling(st: Stamped, beta: number, poles: Root[], pair
   };
   // Error weights: each node against the larger of its final value and the largest it has reached.
   const scale = Float64Array.from(yFinal, (v) => Math.abs(v));
-  const RTOL = 1e-6;
+  const RTOL = 1e-5;
   const floor = 1e-9 * Math.abs(target);
   const norm = (v: ArrayLike<number>) => {
     let m = 0;
@@ -732,6 +788,7 @@ export function largeStepSettling(st: Stamped, beta: number, poles: Root[], pair
   };
   const fWork = new Float64Array(n);
   const rWork = new Float64Array(n);
+  const dy = new Float64Array(n);
   /**
    * Solves M(y − a) − c·F(y) − extra = 0 from y (overwritten) by Newton's
    * method with the matrix of its first iterate (the nonlinearity is one
@@ -747,7 +804,7 @@ export function largeStepSettling(st: Stamped, beta: number, poles: Root[], pair
         for (let j = 0; j < n; j++) s += C[i * n + j] * (y[j] - aVec[j]);
         rWork[i] = c * fWork[i] + (extra ? extra[i] : 0) - s;
       }
-      const dy = realSolve(lu, n, rWork);
+      realSolve(lu, n, rWork, dy);
       let finite = true;
       for (let i = 0; i < n; i++) {
         y[i] += dy[i];
@@ -773,7 +830,8 @@ export function largeStepSettling(st: Stamped, beta: number, poles: Root[], pair
   let peakDrive = Math.abs(drive(y));
   let slewingUntil = peakDrive > 1 ? t : 0;
   let lastExit = 0;
-  const levels = [target - band * Math.abs(target), target + band * Math.abs(target)];
+  const lo = target - band * Math.abs(target);
+  const hi = target + band * Math.abs(target);
   const fN = new Float64Array(n);
   const fG = new Float64Array(n);
   const f1 = new Float64Array(n);
@@ -791,7 +849,7 @@ export function largeStepSettling(st: Stamped, beta: number, poles: Root[], pair
   const horizon = 10 * ((cMax * Math.abs(outputStep)) / pair.tail) * (1 + 1 / beta) + (200 - Math.log(band)) / slowest;
   let checkAt = 0;
   while (t < horizon) {
-    if (steps + rejected > 200_000) return 'the large-signal integration did not finish';
+    if (steps + rejected > 8_000) return 'the large-signal integration did not finish in 8,000 steps';
     // TR stage: M(y_γ − y_n) = (γh/2)·(F(y_n) + F(y_γ)).
     yG.set(y);
     for (let i = 0; i < n; i++) extra[i] = D * h * fN[i];
@@ -814,7 +872,7 @@ export function largeStepSettling(st: Stamped, beta: number, poles: Root[], pair
     F(yG, fG);
     F(y1, f1);
     for (let i = 0; i < n; i++) est[i] = LTE_C * 2 * h * (fN[i] / GAMMA - fG[i] / (GAMMA * (1 - GAMMA)) + f1[i] / (1 - GAMMA));
-    const err = norm(realSolve(lu1, n, est));
+    const err = norm(realSolve(lu1, n, est, dy));
     if (!(err <= 1)) {
       h *= Math.max(0.1, 0.9 * Math.cbrt(1 / (Number.isFinite(err) ? err : 1e9)));
       rejected++;
@@ -824,7 +882,7 @@ export function largeStepSettling(st: Stamped, beta: number, poles: Root[], pair
     const t0 = t;
     const tG = t + GAMMA * h;
     const t1 = t + h;
-    for (const x of quadraticCrossings(t0, tG, t1, y[out], yG[out], y1[out], levels)) lastExit = Math.max(lastExit, x);
+    lastExit = Math.max(lastExit, lastCrossing(t0, tG, t1, y[out], yG[out], y1[out], lo, hi));
     const d0 = Math.abs(drive(y));
     const dG = Math.abs(drive(yG));
     const d1 = Math.abs(drive(y1));
@@ -846,6 +904,7 @@ export function largeStepSettling(st: Stamped, beta: number, poles: Root[], pair
       const vidFinal = u - beta * target;
       if ((Math.abs(vidFinal) + beta * Math.abs(target) * tail.envelope(0)) / k < LINEAR_DRIVE && basis.residual(d) < 1e-6) {
         const lin = settlingTime(tail, band);
+        if (!lin) return 'the linear settling after the slewing rings for more periods than polecheck resolves';
         const settling = lin.crossings > 0 ? t + lin.t : lastExit;
         return { settlingTime: settling, slewingUntil, peakDrive, linearFrom: t, steps, rejected };
       }
@@ -854,31 +913,30 @@ export function largeStepSettling(st: Stamped, beta: number, poles: Root[], pair
   return 'the large-signal response did not return to its linear range in the time it should have settled';
 }
 
-/** Times in [t0, t2] where the quadratic through (t0, y0), (t1, y1), (t2, y2) takes one of the levels. */
-function quadraticCrossings(t0: number, t1: number, t2: number, y0: number, y1: number, y2: number, levels: number[]): number[] {
-  // Newton form in s = t − t0.
+/** The last time in (t0, t2] where the quadratic through (t0, y0), (t1, y1), (t2, y2) takes level lo or hi; 0 if none. */
+function lastCrossing(t0: number, t1: number, t2: number, y0: number, y1: number, y2: number, lo: number, hi: number): number {
+  // Newton form in s = t − t0: y(s) = y0 + d01·s + c2·s·(s − s1) = y0 + b·s + c2·s².
   const s1 = t1 - t0;
   const s2 = t2 - t0;
   const d01 = (y1 - y0) / s1;
   const d12 = (y2 - y1) / (s2 - s1);
   const c2 = (d12 - d01) / s2;
-  // y(s) = y0 + d01·s + c2·s·(s − s1) = y0 + (d01 − c2·s1)·s + c2·s²
   const b = d01 - c2 * s1;
-  const out: number[] = [];
-  for (const L of levels) {
-    const c = y0 - L;
-    const roots: number[] = [];
+  let last = 0;
+  const take = (r: number) => {
+    if (r > 0 && r <= s2) last = Math.max(last, t0 + r);
+  };
+  for (const level of [lo, hi]) {
+    const c = y0 - level;
     if (Math.abs(c2) * s2 * s2 < 1e-14 * (Math.abs(b) * s2 + Math.abs(c))) {
-      if (b !== 0) roots.push(-c / b);
-    } else {
-      const disc = b * b - 4 * c2 * c;
-      if (disc >= 0) {
-        const q = -0.5 * (b + Math.sign(b || 1) * Math.sqrt(disc));
-        roots.push(q / c2);
-        if (q !== 0) roots.push(c / q);
-      }
+      if (b !== 0) take(-c / b);
+      continue;
     }
-    for (const r of roots) if (r > 0 && r <= s2) out.push(t0 + r);
+    const disc = b * b - 4 * c2 * c;
+    if (disc < 0) continue;
+    const q = -0.5 * (b + Math.sign(b || 1) * Math.sqrt(disc));
+    take(q / c2);
+    if (q !== 0) take(c / q);
   }
-  return out;
+  return last;
 }

@@ -145,9 +145,10 @@ export function realLU(a: Float64Array, n: number): { a: Float64Array; perm: Int
 }
 
 /** Solves A·x = b from realLU's factors: forward then back substitution. */
-export function realSolve(lu: { a: Float64Array; perm: Int32Array }, n: number, b: ArrayLike<number>): Float64Array {
+export function realSolve(lu: { a: Float64Array; perm: Int32Array }, n: number, b: ArrayLike<number>, into?: Float64Array): Float64Array {
   const { a, perm } = lu;
-  const x = new Float64Array(n);
+  // `into` (not `b`) takes the solution without an allocation, for loops that solve many times.
+  const x = into ?? new Float64Array(n);
   for (let i = 0; i < n; i++) {
     let s = b[perm[i]];
     for (let j = 0; j < i; j++) s -= a[i * n + j] * x[j];

@@ -157,17 +157,27 @@ export interface Integral {
   evaluations: number;
 }
 
-const MAX_INTERVALS = 2000;
+/**
+ * Work bound of one integral: 128 intervals, 1,920 evaluations. A smooth
+ * density meets the tolerance in a few dozen; only values at the edges of
+ * double precision, whose rounding noise no rule resolves, reach the bound,
+ * and the figure then says it did not converge.
+ */
+const MAX_INTERVALS = 128;
+/** Longest first piece between break frequencies, in ln f: three decades. */
+const MAX_PIECE = 3 * Math.LN10;
 
 /**
  * ∫ g(f) df over [f1, f2] (0 < f1 < f2 < ∞), in log-frequency (∫ g(eᵘ)·eᵘ du),
  * adaptively: the range is cut at every break frequency (poles, zeros) inside
- * it and into pieces of at most a decade, then the interval with the largest
- * error estimate is halved until the estimates sum below relTol of the total.
+ * it and into pieces of at most three decades, then the interval with the largest
+ * error estimate is halved until the estimates sum below relTol of the total
+ * (10⁻⁶: the claims' tolerances are 10 %, the ngspice bar 1 %).
  */
-export function integrateLogFrequency(g: (fHz: number) => number, f1: number, f2: number, breaks: readonly number[] = [], relTol = 1e-8): Integral {
+export function integrateLogFrequency(g: (fHz: number) => number, f1: number, f2: number, breaks: readonly number[] = [], relTol = 1e-6): Integral {
   const u1 = Math.log(f1);
   const u2 = Math.log(f2);
+  if (!(Number.isFinite(u1) && Number.isFinite(u2) && u2 > u1)) return { value: NaN, error: NaN, converged: false, evaluations: 0 };
   const cuts = [u1, ...breaks.filter((b) => b > f1 && b < f2).map(Math.log), u2].sort((x, y) => x - y);
   const h = (u: number): number => {
     const f = Math.exp(u);
@@ -182,15 +192,26 @@ export function integrateLogFrequency(g: (fHz: number) => number, f1: number, f2
   for (let i = 0; i + 1 < cuts.length; i++) {
     const [a, b] = [cuts[i], cuts[i + 1]];
     if (!(b > a)) continue;
-    const pieces = Math.max(1, Math.ceil((b - a) / Math.LN10));
+    const pieces = Math.min(MAX_INTERVALS, Math.max(1, Math.ceil((b - a) / MAX_PIECE)));
     for (let j = 0; j < pieces; j++) parts.push(rule(a + ((b - a) * j) / pieces, a + ((b - a) * (j + 1)) / pieces));
   }
   const total = () => parts.reduce((s, p) => s + p.value, 0);
   const errors = () => parts.reduce((s, p) => s + p.error, 0);
+  // Rounding noise in the density (values at the edges of double precision) keeps the estimates
+  // from falling: after as many halvings as there are first pieces (32 at least) without a
+  // tenfold gain, more work buys nothing.
+  const STALL = Math.max(32, parts.length);
+  let best = Infinity;
+  let stalled = 0;
   while (parts.length < MAX_INTERVALS) {
     const value = total();
+    const error = errors();
     if (!Number.isFinite(value)) break;
-    if (errors() <= relTol * Math.abs(value)) return { value, error: errors(), converged: true, evaluations };
+    if (error <= relTol * Math.abs(value)) return { value, error, converged: true, evaluations };
+    if (error < best / 10) {
+      best = error;
+      stalled = 0;
+    } else if (++stalled >= STALL) break;
     let worst = 0;
     for (let i = 1; i < parts.length; i++) if (parts[i].error > parts[worst].error) worst = i;
     const p = parts[worst];

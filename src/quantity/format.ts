@@ -100,7 +100,7 @@ function fixedSig(v: number, sig: number): string {
   return (p.negative ? '-' : '') + placeDecimal(p.digits, p.exp + 1);
 }
 
-const SI_KINDS: ReadonlySet<Kind> = new Set(['conductance', 'resistance', 'capacitance', 'current', 'voltage', 'time', 'frequency']);
+const SI_KINDS: ReadonlySet<Kind> = new Set(['conductance', 'resistance', 'capacitance', 'current', 'voltage', 'time', 'frequency', 'power', 'noise']);
 
 function engineering(v: number, sig: number, unit: string): string {
   const p = sigParts(v, sig);
@@ -134,6 +134,10 @@ export function formatQuantity(value: number, kind: Kind, digits = 3): string {
       return `${fixedSig(v, sig)}${DISPLAY_UNIT.angle}`;
     case 'ratio':
       return String(roundTo(v, sig));
+    // Units that take no prefix: kelvin, and the figure of merit in its customary unit.
+    case 'temperature':
+    case 'fom':
+      return `${fixedSig(v, sig)} ${CANONICAL_UNIT[kind]}`;
     default:
       return engineering(v, sig, CANONICAL_UNIT[kind]);
   }

@@ -14,7 +14,11 @@ export type Kind =
   | 'gain'
   | 'angle'
   | 'slew'
-  | 'ratio';
+  | 'ratio'
+  | 'noise'
+  | 'power'
+  | 'temperature'
+  | 'fom';
 
 export const KINDS: readonly Kind[] = [
   'conductance',
@@ -28,6 +32,10 @@ export const KINDS: readonly Kind[] = [
   'angle',
   'slew',
   'ratio',
+  'noise',
+  'power',
+  'temperature',
+  'fom',
 ];
 
 /** Canonical unit of each kind; `Quantity.value` is expressed in it. */
@@ -43,6 +51,11 @@ export const CANONICAL_UNIT: Record<Kind, string> = {
   angle: 'deg',
   slew: 'V/s',
   ratio: '',
+  noise: 'V/\u221aHz',
+  power: 'W',
+  temperature: 'K',
+  // GBW·CL/I in the units the trade quotes it in (1 MHz·pF/mA = 10⁻³ V⁻¹).
+  fom: 'MHz\u00b7pF/mA',
 };
 
 /** How the canonical unit is shown to people (angle: `°`). */
@@ -63,6 +76,10 @@ export const KIND_NOUN: Record<Kind, string> = {
   angle: 'an angle',
   slew: 'a slew rate',
   ratio: 'a dimensionless ratio',
+  noise: 'a noise density',
+  power: 'a power',
+  temperature: 'a temperature',
+  fom: 'a figure of merit',
 };
 
 export const KIND_EXAMPLE: Record<Kind, string> = {
@@ -77,6 +94,10 @@ export const KIND_EXAMPLE: Record<Kind, string> = {
   angle: '60°',
   slew: '16 V/µs',
   ratio: '0.5',
+  noise: '12 nV/√Hz',
+  power: '1.5 mW',
+  temperature: '300 K',
+  fom: '250 MHz·pF/mA',
 };
 
 /** "a capacitance in F, e.g. `1.2 pF`" — the expectation part of messages. */
@@ -187,6 +208,9 @@ const BASES: readonly Base[] = [
   { kind: 'voltage', symbols: ['V'], words: ['volt', 'volts'] },
   { kind: 'current', symbols: ['A'], words: ['amp', 'amps', 'ampere', 'amperes'] },
   { kind: 'time', symbols: ['s'], words: ['second', 'seconds'] },
+  { kind: 'power', symbols: ['W'], words: ['watt', 'watts'] },
+  // An rms voltage (integrated noise) is written with its rms mark: `20 µVrms`.
+  { kind: 'voltage', symbols: ['Vrms'], words: [] },
 ];
 
 for (const base of BASES) {
@@ -230,6 +254,17 @@ function addQuotient(num: string, den: string, kind: Kind, style: UnitStyle, den
 addQuotient('A', 'V', 'conductance', 'si', 1);
 addQuotient('V', 's', 'slew', 'si', 1);
 addQuotient('rad', 's', 'frequency', 'rad/s', 1);
+
+// Noise densities: a prefixed volt over the root of a hertz, in the three
+// spellings datasheets use (`nV/√Hz`, `nV/rtHz`, `nV/sqrt(Hz)`).
+for (const root of ['\u221aHz', 'rtHz', 'sqrt(Hz)']) {
+  for (const p of [NO_PREFIX, ...SYMBOL_PREFIXES]) add({ spelling: `${p.symbol}V/${root}`, kind: 'noise', style: 'si', exp10: p.exp10, prefixName: p.name });
+}
+// Absolute temperature, in kelvin only: a Celsius scale would need an offset, not a factor.
+add({ spelling: 'K', kind: 'temperature', style: 'si', exp10: 0, prefixName: '' });
+add({ spelling: 'kelvin', kind: 'temperature', style: 'si', exp10: 0, prefixName: '' });
+// The amplifier figure of merit GBW·CL/I, in its customary unit only.
+for (const dot of ['\u00b7', '*']) add({ spelling: `MHz${dot}pF/mA`, kind: 'fom', style: 'si', exp10: 0, prefixName: '' });
 
 add({ spelling: 'dB', kind: 'gain', style: 'dB', exp10: 0, prefixName: '' });
 add({ spelling: 'V/V', kind: 'gain', style: 'V/V', exp10: 0, prefixName: '' });

@@ -22,10 +22,15 @@ const claimedText = (c: ClaimEntry | undefined): string => {
   return parts.join(', ');
 };
 
+/** Figures whose hand error reads as a percentage. */
+const RELATIVE_UNITS: ReadonlySet<string> = new Set(['Hz', 'V/s', 'F', 'V/√Hz', 'V', 'A', 'W', 'MHz·pF/mA', 's']);
+
 function handError(hand: Figure | undefined, exact: Figure | undefined, unit: string): string {
   if (!hand || hand.value === null || !exact || exact.value === null) return '—';
-  if (unit === 'Hz' || unit === 'V/s' || unit === 'F') return `${((100 * (hand.value - exact.value)) / exact.value).toFixed(1)} %`;
+  if (RELATIVE_UNITS.has(unit) && exact.value !== 0) return `${((100 * (hand.value - exact.value)) / exact.value).toFixed(1)} %`;
   const d = hand.value - exact.value;
+  // A fraction (overshoot): the difference in percentage points.
+  if (unit === 'ratio') return `${d >= 0 ? '+' : ''}${(100 * d).toFixed(1)} pp`;
   return `${d >= 0 ? '+' : ''}${d.toFixed(1)}${unit === 'deg' ? '°' : ` ${unit}`}`;
 }
 

@@ -4,8 +4,10 @@
 import type { Finding } from '../findings';
 import { type Kind, KIND_EXAMPLE, KIND_NOUN, parseQuantity, parseTolerance } from '../quantity';
 import { TOPOLOGIES } from '../topologies';
-import { ELEMENT_KINDS, type ElementKind, type NetworkDef, type NetworkElementDef, checkStructure, networkTopology } from '../topologies/network';
-import type { ClaimSpec, KeySpec, Topology } from '../topologies/types';
+import { STEP_INPUT, betaFromGain } from '../topologies/common';
+import { ELEMENT_KINDS, ELEMENT_NOISE, type ElementKind, type ElementNoise, type NetworkDef, type NetworkElementDef, checkStructure, networkTopology } from '../topologies/network';
+import type { ClaimArg, ClaimSpec, KeySpec, Topology, Values } from '../topologies/types';
+import { parseGain } from './closed-loop-conditions';
 import { nearest } from './nearest';
 import type { Pos } from './position';
 import type { ClaimEntry, QuantityAt, Spec, ValueEntry, Waiver } from './types';
@@ -64,7 +66,7 @@ function checkPhysical(c: Collector, spec: KeySpec, q: QuantityAt): boolean {
     c.error('invalid-value', q.pos, `\`${spec.key}: ${q.quantity.written.text}\` is outside the range polecheck computes with (${VALUE_LIMITS[0]} to ${VALUE_LIMITS[1]} in SI units)`);
     return false;
   }
-  if (v < 0 || (v === 0 && !spec.allowZero)) {
+  if ((v < 0 && !spec.allowNegative) || (v === 0 && !spec.allowZero)) {
     c.error('invalid-value', q.pos, `\`${spec.key}\` (${spec.description}) must be ${spec.allowZero ? 'zero or positive' : 'positive'}; got \`${q.quantity.written.text}\``);
     return false;
   }
@@ -98,6 +100,7 @@ function readValues(c: Collector, node: YNode | undefined, specs: KeySpec[], whe
 
 function readValue(c: Collector, e: YEntry, spec: KeySpec): ValueEntry | undefined {
   const v = e.value;
+  if (spec.key === 'gain' || (spec.key === 'step' && v.kind === 'map' && v.entries.some((b) => b.key === 'input' || b.key === 'output'))) return readLoopCondition(c, e, spec);
   if (v.kind === 'scalar' && spec.open && v.text.trim().toLowerCase() === 'open') {
     return { key: e.key, keyPos: e.keyPos, spec, typ: { quantity: { value: Infinity, kind: spec.kind, written: { text: 'open', number: '', unit: '', style: 'bare', scale: 1, sigDigits: 0, decimals: 0 } }, pos: v.pos }, open: true };
   }
@@ -159,7 +162,7 @@ function readValue(c: Collector, e: YEntry, spec: KeySpec): ValueEntry | undefin
 }
 
 /** Frequencies, rates and capacitances are positive; gains in dB and angles may be negative. */
-export const POSITIVE_CLAIM_KINDS: readonly Kind[] = ['frequency', 'slew', 'capacitance'];
+export const POSITIVE_CLAIM_KINDS: readonly Kind[] = ['frequency', 'slew', 'capacitance', 'noise', 'voltage', 'current', 'power', 'fom'];
 
 function claimValueOk(c: Collector, spec: ClaimSpec, q: QuantityAt): boolean {
   if (POSITIVE_CLAIM_KINDS.includes(spec.kind) && !(q.quantity.value > 0)) {
@@ -186,9 +189,17 @@ function readClaims(c: Collector, node: YNode | undefined, topology: Topology): 
     if (e.value.kind === 'map') {
       const entry: ClaimEntry = { key: e.key, keyPos: e.keyPos, spec, plain: false };
       let ok = true;
+      const args = spec.args ?? [];
       for (const b of e.value.entries) {
+        const arg = args.find((a) => a.key === b.key);
+        if (arg) {
+          const read = readClaimArg(c, e.key, arg, b);
+          if (!read) ok = false;
+          else entry.conditions = { values: { ...entry.conditions?.values, ...read.values }, text: [entry.conditions?.text, read.text].filter(Boolean).join(', '), pos: b.keyPos };
+          continue;
+        }
         if (!(BOUND_KEYS as readonly string[]).includes(b.key)) {
-          c.unknownKey(b.keyPos, b.key, `the claim \`${e.key}\``, BOUND_KEYS);
+          c.unknownKey(b.keyPos, b.key, `the claim \`${e.key}\``, [...BOUND_KEYS, ...args.map((a) => a.key)]);
           ok = false;
           continue;
         }
@@ -220,10 +231,42 @@ function readClaims(c: Collector, node: YNode | undefined, topology: Topology): 
   return out;
 }
 
+/**
+ * A claim's own argument (`at: 1 MHz`, `band: [10 Hz, 1 MHz]`): positive
+ * values of its kind, a pair in increasing order. They become the claim's
+ * operating point, as a table row's conditions do.
+ */
+function readClaimArg(c: Collector, claim: string, arg: ClaimArg, b: YEntry): { values: Values; text: string } | undefined {
+  const name = `${claim}.${arg.key}`;
+  const positive = (q: QuantityAt | undefined): q is QuantityAt => {
+    if (!q) return false;
+    if (q.quantity.value > 0) return true;
+    c.error('invalid-value', q.pos, `\`${name}\` (${arg.description}) must be positive; got \`${q.quantity.written.text}\``, [], claim);
+    return false;
+  };
+  if (arg.valueKeys.length === 1) {
+    const q = quantityAt(c, b.value, arg.kind, name, claim);
+    if (!positive(q)) return undefined;
+    return { values: { [arg.valueKeys[0]]: q.quantity.value }, text: `${arg.key} ${q.quantity.written.text}` };
+  }
+  const items = b.value.kind === 'seq' ? b.value.items : [];
+  if (items.length !== 2) {
+    c.error('invalid-value', b.value.pos, `\`${name}\` takes two values, \`[from, to]\`, such as \`[10 Hz, 1 MHz]\``, [], claim);
+    return undefined;
+  }
+  const [lo, hi] = items.map((item) => quantityAt(c, item, arg.kind, name, claim));
+  if (!positive(lo) || !positive(hi)) return undefined;
+  if (!(hi.quantity.value > lo.quantity.value)) {
+    c.error('invalid-value', hi.pos, `\`${name}\` runs from ${lo.quantity.written.text} to ${hi.quantity.written.text}: the second value must be the higher`, [], claim);
+    return undefined;
+  }
+  return { values: { [arg.valueKeys[0]]: lo.quantity.value, [arg.valueKeys[1]!]: hi.quantity.value }, text: `${arg.key} ${lo.quantity.written.text} to ${hi.quantity.written.text}` };
+}
+
 const ELEMENT_KEYS: Record<ElementKind, string[]> = {
-  resistor: ['kind', 'between', 'value'],
+  resistor: ['kind', 'between', 'value', 'noise'],
   capacitor: ['kind', 'between', 'value'],
-  transconductance: ['kind', 'into', 'from', 'control', 'value'],
+  transconductance: ['kind', 'into', 'from', 'control', 'value', 'noise', 'gamma'],
 };
 
 const nodeList = (n: YNode | undefined): string[] | undefined =>
@@ -274,6 +317,31 @@ function readNetwork(c: Collector, entry: YEntry): { topology: Topology; values:
       continue;
     }
     values.push({ key: el.key, keyPos: el.keyPos, value: value.value });
+    // Noise: resistors thermal unless `noise: none`, transconductances silent unless `noise: channel` (γ from `gamma:`).
+    const noiseEntry = f('noise');
+    let noise: ElementNoise | undefined;
+    if (noiseEntry) {
+      const text = scalarText(noiseEntry.value)?.trim() as ElementNoise | undefined;
+      if (!text || !ELEMENT_NOISE[kind].includes(text)) {
+        c.error('invalid-value', noiseEntry.value.pos, `\`noise\` of the ${kind} \`${el.key}\` is one of ${ELEMENT_NOISE[kind].map((x) => `\`${x}\``).join(', ')}`);
+        ok = false;
+        continue;
+      }
+      noise = text;
+    }
+    const gammaEntry = f('gamma');
+    let gamma: number | undefined;
+    if (gammaEntry) {
+      const q = quantityAt(c, gammaEntry.value, 'ratio', `${el.key}.gamma`, null);
+      if (!q || !(q.quantity.value > 0)) {
+        if (q) c.error('invalid-value', q.pos, `\`gamma\` of \`${el.key}\` (its channel-noise factor) must be positive`);
+        ok = false;
+        continue;
+      }
+      if (noise !== 'channel') c.error('invalid-value', gammaEntry.keyPos, `\`gamma\` of \`${el.key}\` applies only with \`noise: channel\``);
+      gamma = q.quantity.value;
+    }
+    const noiseOf = { ...(noise ? { noise } : {}), ...(gamma !== undefined ? { gamma } : {}) };
     if (kind === 'transconductance') {
       const into = scalarText(f('into')?.value ?? el.value)?.trim();
       const from = f('from') ? scalarText(f('from')!.value)?.trim() : '0';
@@ -283,7 +351,7 @@ function readNetwork(c: Collector, entry: YEntry): { topology: Topology; values:
         ok = false;
         continue;
       }
-      elements.push({ name: el.key, kind, a: from, b: into, ctrlP: control[0], ctrlN: control[1], pos: el.keyPos });
+      elements.push({ name: el.key, kind, a: from, b: into, ctrlP: control[0], ctrlN: control[1], ...noiseOf, pos: el.keyPos });
     } else {
       const between = nodeList(f('between')?.value);
       if (!between || between.length !== 2) {
@@ -291,7 +359,7 @@ function readNetwork(c: Collector, entry: YEntry): { topology: Topology; values:
         ok = false;
         continue;
       }
-      elements.push({ name: el.key, kind, a: between[0], b: between[1], pos: el.keyPos });
+      elements.push({ name: el.key, kind, a: between[0], b: between[1], ...noiseOf, pos: el.keyPos });
     }
   }
   if (!ok || !input || !output || !nodes) return undefined;
@@ -300,6 +368,90 @@ function readNetwork(c: Collector, entry: YEntry): { topology: Topology; values:
   for (const p of problems) c.error('network', p.pos, p.message);
   if (problems.length) return undefined;
   return { topology: networkTopology(def), values: { kind: 'map', entries: values, pos: elementsNode.pos } };
+}
+
+/** One supply: `supply`, or the rails `vdd` (and `vss`), the positive rail above the negative. */
+function checkSupply(c: Collector, conditions: Map<string, ValueEntry>): void {
+  const supply = conditions.get('supply');
+  const vdd = conditions.get('vdd');
+  const vss = conditions.get('vss');
+  if (supply && (vdd || vss)) {
+    c.error('invalid-value', (vdd ?? vss)!.keyPos, 'give the supply once: `supply` (one voltage) or `vdd` and `vss` (the rails), not both');
+    conditions.delete('vdd');
+    conditions.delete('vss');
+    return;
+  }
+  if (vss && !vdd) c.error('missing-value', vss.keyPos, '`vss` needs `vdd`, the positive rail');
+  if (vdd && vss) {
+    const low = (vdd.min ?? vdd.typ).quantity.value;
+    const high = (vss.max ?? vss.typ).quantity.value;
+    if (!(low > high)) {
+      c.error('invalid-value', vdd.keyPos, `\`vdd\` (${vdd.typ.quantity.written.text}) must be above \`vss\` (${vss.typ.quantity.written.text}) at every corner`);
+      conditions.delete('vdd');
+      conditions.delete('vss');
+    }
+  }
+}
+
+/**
+ * `gain` (one signed value, V/V or dB) and `step` given as `{input: 100 mV}`
+ * or `{output: 1 V}`; an input step is kept under its own value key.
+ */
+function readLoopCondition(c: Collector, e: YEntry, spec: KeySpec): ValueEntry | undefined {
+  const v = e.value;
+  if (spec.key === 'gain') {
+    if (v.kind !== 'scalar') {
+      c.error('wrong-unit', v.pos, '`gain` takes one value, signed, in V/V or dB: `+10`, `-4 V/V`, `20 dB`');
+      return undefined;
+    }
+    const r = parseGain(v.text);
+    if (!r.ok) {
+      c.error('invalid-value', v.pos, `\`gain: ${clip(v.text)}\`: ${r.message}`);
+      return undefined;
+    }
+    return { key: e.key, keyPos: e.keyPos, spec, typ: { quantity: { value: r.value, kind: spec.kind, written: r.written }, pos: v.pos } };
+  }
+  if (v.kind !== 'map' || v.entries.length !== 1 || !['input', 'output'].includes(v.entries[0].key)) {
+    c.error('invalid-value', v.pos, '`step` is a voltage at the output (`step: 1 V`), or one of `{input: 100 mV}`, `{output: 1 V}`');
+    return undefined;
+  }
+  const b = v.entries[0];
+  const q = quantityAt(c, b.value, 'voltage', `step.${b.key}`, null);
+  if (!q || !checkPhysical(c, spec, q)) return undefined;
+  return { key: b.key === 'input' ? STEP_INPUT : 'step', keyPos: e.keyPos, spec, typ: q };
+}
+
+/**
+ * `gain` sets β (1/G non-inverting, 1/(1 + |G|) inverting): a `beta` given as
+ * well must agree with it, else both keys are in error and the gain is
+ * dropped; without one, β is derived from the gain.
+ */
+function checkGain(c: Collector, conditions: Map<string, ValueEntry>, topology: Topology): void {
+  const gain = conditions.get('gain');
+  const betaSpec = topology.conditions.find((k) => k.key === 'beta');
+  if (!gain || !betaSpec) return;
+  const g = gain.typ.quantity.value;
+  const fromGain = betaFromGain(g);
+  const how = g < 0 ? '1/(1 + |G|), inverting' : '1/G, non-inverting';
+  const beta = conditions.get('beta');
+  if (beta) {
+    const b = beta.typ.quantity.value;
+    // Agreement to the precision a β is written with (0.09 for G = 11 is fine).
+    if (beta.min || beta.max || Math.abs(b - fromGain) > 0.02 * fromGain) {
+      const ranged = beta.min || beta.max ? ' (a ranged β cannot follow one gain)' : '';
+      c.error('invalid-value', gain.keyPos, `\`gain: ${gain.typ.quantity.written.text}\` means β = ${+fromGain.toPrecision(4)} (${how}), but \`beta: ${beta.typ.quantity.written.text}\` is stated${ranged}: give one of them, or values that agree`);
+      c.error('invalid-value', beta.keyPos, `\`beta: ${beta.typ.quantity.written.text}\` disagrees with \`gain: ${gain.typ.quantity.written.text}\`, which means β = ${+fromGain.toPrecision(4)} (${how})${ranged}`);
+      conditions.delete('gain');
+    }
+    return;
+  }
+  const text = String(+fromGain.toPrecision(6));
+  conditions.set('beta', {
+    key: 'beta',
+    keyPos: gain.keyPos,
+    spec: betaSpec,
+    typ: { quantity: { value: fromGain, kind: 'ratio', written: { text, number: text, unit: '', style: 'bare', scale: 1, sigDigits: 6, decimals: 0 } }, pos: gain.typ.pos },
+  });
 }
 
 const WAIVER_KEYS = ['rule', 'claim', 'reason', 'expires'];
@@ -389,6 +541,8 @@ export function readSpec(path: string, root: YMap, start: Pos): { spec: Spec | n
   const paramsEntry = topoName === 'network' ? get('network') : get('params');
   const params = readValues(c, paramsNode, topology.params, topoName === 'network' ? 'network.elements' : 'params');
   const conditions = readValues(c, get('conditions')?.value, topology.conditions, 'conditions');
+  checkSupply(c, conditions);
+  checkGain(c, conditions, topology);
   const claims = readClaims(c, get('claims')?.value, topology);
   const paramsPos = paramsEntry?.keyPos ?? topo.keyPos;
 

@@ -5,7 +5,9 @@
 
 import type { Finding } from '../findings';
 import { type Kind, parseQuantity } from '../quantity';
+import { SETTLING_BAND, STEP_INPUT, betaFromGain } from '../topologies/common';
 import type { KeySpec, Topology, Values } from '../topologies/types';
+import { parseGain } from './closed-loop-conditions';
 import { editDistance, nearest } from './nearest';
 import type { Pos } from './position';
 import type { ClaimEntry, QuantityAt, RowConditions } from './types';
@@ -33,6 +35,13 @@ export const CLAIM_ALIASES: Record<string, string[]> = {
   slew_rate: ['SR', 'Slew rate'],
   bandwidth: ['BW', 'f-3dB', 'f3dB', '−3 dB bandwidth', '-3 dB bandwidth', 'Bandwidth', 'Small-signal bandwidth'],
   input_capacitance: ['Cin', 'CIN', 'Input capacitance'],
+  closed_loop_gain: ['ACL', 'AVCL', 'Closed-loop gain', 'Closed-loop voltage gain'],
+  // The open-loop −3 dB names too: in a row that states a gain they mean the closed loop (see matchClaim).
+  closed_loop_bandwidth: ['Closed-loop bandwidth', 'BW', 'f-3dB', 'f3dB', '−3 dB bandwidth', '-3 dB bandwidth', 'Bandwidth', 'Small-signal bandwidth'],
+  peaking: ['Peaking', 'Gain peaking', 'Mp'],
+  overshoot: ['OS', 'Overshoot', 'Small-signal overshoot'],
+  rise_time: ['tr', 'tR', 'Rise time', '10-90 % rise time', 'Rise time (10-90 %)'],
+  settling_time: ['ts', 'tS', 'tSET', 'Settling time'],
 };
 
 /** Condition names as datasheets write them. */
@@ -43,8 +52,14 @@ const CONDITION_ALIASES: Record<string, string[]> = {
   rs: ['RS', 'Source resistance'],
 };
 
-/** Datasheet conditions outside the small-signal model (supplies, temperature, signal). */
-const OUTSIDE_MODEL = new Set(['t', 'ta', 'tj', 'temp', 'temperature', 'vdd', 'vcc', 'vs', 'vss', 'vee', 'vcm', 'vin', 'vout', 'vo', 'f', 'freq', 'avcl', 'g', 'gain']);
+/** Names of the closed loop's conditions, read by readLoopItem. */
+const GAIN_NAMES = ['G', 'Gain', 'AV', 'ACL', 'AVCL', 'Closed-loop gain', 'Signal gain'];
+const STEP_NAMES = ['Step', 'VSTEP', 'Output step', 'VOUT step', 'VO step'];
+const INPUT_STEP_NAMES = ['Input step', 'VIN step'];
+const BAND_NAMES = ['Band', 'Settling band', 'Error band'];
+
+/** Datasheet conditions outside the small-signal model (supplies, temperature, signal): never a misspelt model condition. */
+const OUTSIDE_MODEL = new Set(['t', 'ta', 'tj', 'temp', 'temperature', 'vdd', 'vcc', 'vs', 'vss', 'vee', 'vcm', 'vin', 'vout', 'vo', 'f', 'freq', ...GAIN_NAMES.map((g) => g.toLowerCase().replace(/[\s\-_.]/g, ''))]);
 
 const norm = (s: string): string => s.toLowerCase().replace(/[\s\-_.]/g, '').replace(/\u2212/g, '-');
 
@@ -96,16 +111,72 @@ const finding = (rule: string, severity: Finding['severity'], pos: Pos, message:
   suggestions,
 });
 
-function matchClaim(topology: Topology, symbol: string | undefined, name: string): string | undefined {
+/**
+ * The claim a row states, by its symbol or name. A name both claims answer
+ * to (`Bandwidth` for the open loop and the closed loop) means the closed
+ * loop in a row that states a gain, as datasheets use it.
+ */
+function matchClaim(topology: Topology, symbol: string | undefined, name: string, closedLoop: boolean): string | undefined {
   const known = new Set(topology.claims.map((c) => c.key));
   for (const candidate of [symbol, name]) {
     if (!candidate) continue;
     const n = norm(candidate);
-    for (const [key, aliases] of Object.entries(CLAIM_ALIASES)) {
-      if (known.has(key) && (norm(key) === n || aliases.some((a) => norm(a) === n))) return key;
-    }
+    const keys = Object.entries(CLAIM_ALIASES).filter(([key, aliases]) => known.has(key) && (norm(key) === n || aliases.some((a) => norm(a) === n))).map(([key]) => key);
+    if (keys.length > 1 && keys.includes('bandwidth') && keys.includes('closed_loop_bandwidth')) return closedLoop ? 'closed_loop_bandwidth' : 'bandwidth';
+    if (keys.length) return keys[0];
   }
   return undefined;
+}
+
+/** "Settling time to 0.01 %", "Settling time (0.1 %)": the name and the band it states. */
+function bandInName(name: string): { name: string; band: string } | undefined {
+  // The pattern backtracks: only a name of datasheet length is tried.
+  if (name.length > 120) return undefined;
+  const m = /^(.*?)[\s,]*(?:\(\s*(?:to\s+)?([0-9.]+\s*%)\s*\)|\bto\s+([0-9.]+\s*%))\s*$/i.exec(name);
+  return m && m[1] ? { name: m[1], band: (m[2] ?? m[3]).replace(/\s+/g, ' ') } : undefined;
+}
+
+const matches = (names: string[], raw: string): boolean => names.some((a) => norm(a) === norm(raw));
+
+/**
+ * The closed loop's items of a Conditions cell: `G = +10` (and `β` with it),
+ * `Step = 1 V`, `Input step = 100 mV`, `Band = 0.01 %`, and the phrases
+ * `1 V step`, `100 mV input step`, `to 0.01 %`. Undefined: not one of them.
+ */
+function readLoopItem(item: string, rawName: string | undefined, rawValue: string | undefined, topology: Topology): { set: Values; shown: string } | { error: string } | undefined {
+  const loop = topology.claims.some((c) => c.key === 'settling_time');
+  if (!loop) return undefined;
+  let kind: 'gain' | 'step' | 'input' | 'band' | undefined;
+  let value = rawValue;
+  if (rawName !== undefined) {
+    kind = matches(GAIN_NAMES, rawName) ? 'gain' : matches(STEP_NAMES, rawName) ? 'step' : matches(INPUT_STEP_NAMES, rawName) ? 'input' : matches(BAND_NAMES, rawName) ? 'band' : undefined;
+  } else {
+    if (item.length > 120) return undefined;
+    const to = /^to\s+(.+%)$/i.exec(item);
+    const step = /^(.+?V)\s+(?:(input|output)\s+)?step$/i.exec(item);
+    if (to) (kind = 'band'), (value = to[1]);
+    else if (step) (kind = step[2]?.toLowerCase() === 'input' ? 'input' : 'step'), (value = step[1]);
+  }
+  if (!kind || value === undefined) return undefined;
+  if (value.length > 120) return { error: `condition \`${item.slice(0, 60)}…\`: a value of ${value.length} characters` };
+  if (kind === 'gain') {
+    const g = parseGain(value);
+    if (!g.ok) return { error: `condition \`${item}\`: ${g.message}` };
+    return { set: { gain: g.value, beta: betaFromGain(g.value) }, shown: `G = ${g.written.text}` };
+  }
+  if (kind === 'band') {
+    const q = parseQuantity(value, 'ratio');
+    if (!q.ok) return { error: `condition \`${item}\`: ${q.message}` };
+    if (!(q.quantity.value > 0 && q.quantity.value < 0.5)) return { error: `condition \`${item}\`: a settling band is a small fraction of the final value, such as \`0.1 %\`` };
+    return { set: { [SETTLING_BAND]: q.quantity.value }, shown: `band ${q.quantity.written.text}` };
+  }
+  const q = parseQuantity(value, 'voltage');
+  if (!q.ok) return { error: `condition \`${item}\`: ${q.message}` };
+  if (!(q.quantity.value > 0)) return { error: `condition \`${item}\`: a step is a positive voltage` };
+  // Each sets the other to none, so that a row's step replaces the front matter's either way.
+  return kind === 'step'
+    ? { set: { step: q.quantity.value, [STEP_INPUT]: 0 }, shown: `${q.quantity.written.text} step` }
+    : { set: { [STEP_INPUT]: q.quantity.value, step: 0 }, shown: `${q.quantity.written.text} input step` };
 }
 
 /** Parses `CL = 10 pF, β = 0.5; RL = 2 kΩ` into condition overrides. */
@@ -123,8 +194,26 @@ function readConditions(cell: Cell, topology: Topology, out: Finding[]): RowCond
     // indexOf, not a backtracking pattern: a cell may be very long.
     const at_ = item.indexOf('=');
     const eq = at_ > 0 && item.slice(at_ + 1).trim() ? [item, item.slice(0, at_).trim(), item.slice(at_ + 1).trim()] : null;
+    const loop = readLoopItem(item, eq?.[1], eq?.[2], topology);
+    if (loop) {
+      if ('error' in loop) {
+        out.push(finding('wrong-unit', 'error', at, loop.error));
+        ok = false;
+        continue;
+      }
+      // A gain and a β in one cell must describe one loop.
+      const beta = loop.set.beta;
+      if (beta !== undefined && values.beta !== undefined && Math.abs(values.beta - beta) > 0.02 * beta) {
+        out.push(finding('invalid-value', 'error', at, `\`${item}\` means β = ${+beta.toPrecision(4)}, but the cell also states β = ${+values.beta.toPrecision(4)}: they must agree`));
+        ok = false;
+        continue;
+      }
+      Object.assign(values, loop.set);
+      shown.push(loop.shown);
+      continue;
+    }
     if (!eq) {
-      out.push(finding('table', 'info', at, `condition \`${item}\` is not of the form \`NAME = VALUE\`; ignored`));
+      out.push(finding('table', 'warning', at, `condition \`${item}\` is not understood (not \`NAME = VALUE\`): the row is judged without it`));
       continue;
     }
     const [, rawName, rawValue] = eq;
@@ -138,7 +227,7 @@ function readConditions(cell: Cell, topology: Topology, out: Finding[]): RowCond
         out.push(finding('unknown-key', 'error', at, `unknown condition \`${rawName}\`; did you mean \`${near}\` (${k})?`, [`write \`${near} = ${rawValue}\``]));
         ok = false;
       } else {
-        out.push(finding('table', 'info', at, `condition \`${rawName}\` is not part of the small-signal model; it is ignored`));
+        out.push(finding('table', 'warning', at, `condition \`${rawName}\` is not part of the small-signal model: the row is judged without it`));
       }
       continue;
     }
@@ -150,6 +239,11 @@ function readConditions(cell: Cell, topology: Topology, out: Finding[]): RowCond
     const q = parseQuantity(rawValue.trim(), spec.kind);
     if (!q.ok) {
       out.push(finding('wrong-unit', 'error', at, `condition \`${item}\`: ${q.message}`, q.hint ? [`write \`${q.hint}\``] : []));
+      ok = false;
+      continue;
+    }
+    if (spec.key === 'beta' && values.gain !== undefined && Math.abs(betaFromGain(values.gain) - q.quantity.value) > 0.02 * q.quantity.value) {
+      out.push(finding('invalid-value', 'error', at, `\`${item}\` disagrees with the gain stated in the same cell, which means β = ${+betaFromGain(values.gain).toPrecision(4)}`));
       ok = false;
       continue;
     }
@@ -206,7 +300,15 @@ function readTable(table: MdNode, topology: Topology, claims: ClaimEntry[], find
     const name = get(iParam);
     if (!name || !name.text) continue;
     const symbol = get(iSymbol);
-    const key = matchClaim(topology, symbol?.text, name.text);
+    const cond = iCond >= 0 ? get(iCond) : undefined;
+    const statesGain = cond !== undefined && cond.text.split(/[,;]/).some((item) => {
+      const at = item.indexOf('=');
+      return at > 0 && matches(GAIN_NAMES, item.slice(0, at).trim());
+    });
+    const named = bandInName(name.text);
+    const key = matchClaim(topology, symbol?.text, name.text, statesGain) ?? (named ? matchClaim(topology, symbol?.text, named.name, statesGain) : undefined);
+    // A band in the name belongs to a settling row (`Settling time to 0.01 %`).
+    const nameBand = named && key === 'settling_time' ? named.band : undefined;
     if (!key) {
       // Only a near miss of a long name suggests a misspelt claim; short symbols match too much.
       const near = nearest(name.text, aliasNames.filter((a) => a.length > 4));
@@ -223,8 +325,13 @@ function readTable(table: MdNode, topology: Topology, claims: ClaimEntry[], find
       if (q === null) ok = false;
       else if (q) entry[b] = q;
     }
-    const cond = iCond >= 0 ? get(iCond) : undefined;
-    const conditions = cond ? readConditions(cond, topology, rowFindings) : undefined;
+    let conditions = cond ? readConditions(cond, topology, rowFindings) : undefined;
+    if (nameBand && conditions !== null) {
+      const band = parseQuantity(nameBand, 'ratio');
+      if (band.ok && band.quantity.value > 0 && band.quantity.value < 0.5 && conditions?.values[SETTLING_BAND] === undefined) {
+        conditions = { values: { ...conditions?.values, [SETTLING_BAND]: band.quantity.value }, text: [conditions?.text, `band ${band.quantity.written.text}`].filter(Boolean).join(', '), pos: conditions?.pos ?? name.pos };
+      }
+    }
     findings.push(...rowFindings);
     if (!ok || conditions === null) continue;
     if (!entry.min && !entry.typ && !entry.max) {

@@ -10,7 +10,8 @@
 import { inputAdmittance } from '../engine/analyze';
 import { type Figure, figure, missing } from '../engine/figure';
 import type { Element, Network } from '../engine/network';
-import { parallel } from './common';
+import { DEFAULT_TEMPERATURE, type NoiseModel, type NoiseSource, fourKT } from '../engine/noise';
+import { biasCurrentParam, noiseClaims, noiseParams, parallel, powerClaims, supplyConditions, temperatureCondition } from './common';
 import type { Topology, Values } from './types';
 
 const TWO_PI = 2 * Math.PI;
@@ -40,11 +41,18 @@ export const commonSource: Topology = {
     { key: 'cgs', kind: 'capacitance', required: true, allowZero: true, description: 'gate-source capacitance', plausible: [1e-17, 1e-10] },
     { key: 'cgd', kind: 'capacitance', required: true, description: 'gate-drain (overlap) capacitance', plausible: [1e-17, 1e-10] },
     { key: 'cdb', kind: 'capacitance', required: true, allowZero: true, description: 'drain-bulk capacitance', plausible: [1e-17, 1e-10] },
+    { key: 'gm_load', kind: 'conductance', description: 'transconductance of an active load device (noise)', plausible: [1e-7, 1] },
+    { key: 'r_load', kind: 'resistance', description: 'a resistor load (its thermal noise; its resistance is part of rout)', plausible: [1, 1e10] },
+    { key: 'i_d', kind: 'current', description: 'drain bias current (supply current only)', plausible: [1e-9, 0.1] },
+    ...noiseParams,
+    biasCurrentParam,
   ],
   conditions: [
     { key: 'rs', kind: 'resistance', allowZero: true, default: 0, description: 'resistance of the source driving the gate (0: an ideal source)' },
     { key: 'cl', kind: 'capacitance', allowZero: true, default: 0, description: 'load capacitance' },
     { key: 'rl', kind: 'resistance', open: true, description: 'load resistance (absent or `open`: none)' },
+    ...supplyConditions,
+    temperatureCondition,
   ],
   claims: [
     { key: 'dc_gain', kind: 'gain', better: 'higher', description: 'magnitude of the DC gain (the stage inverts)' },
@@ -53,7 +61,28 @@ export const commonSource: Topology = {
     { key: 'p2', kind: 'frequency', description: 'second-lowest pole frequency' },
     { key: 'rhp_zero', kind: 'frequency', description: 'right-half-plane zero (gm/cgd)' },
     { key: 'input_capacitance', kind: 'capacitance', better: 'lower', description: 'low-frequency capacitance seen at the gate (Miller)' },
+    ...noiseClaims(),
+    ...powerClaims(['i_d'], false),
   ],
+  supplyCurrents: ['i_d', 'i_bias'],
+
+  noise(v: Values): NoiseModel {
+    // The device's channel noise 4kTγ·gm and the load's (4kTγ·gm_load, or
+    // 4kT/r_load for a resistor) at the drain. rs is the signal source's own
+    // resistance and the load (cl, rl) the test condition: both noiseless.
+    const k = fourKT(v.temperature ?? DEFAULT_TEMPERATURE);
+    const gamma = v.gamma ?? 2 / 3;
+    if (v.gm_load === undefined && v.r_load === undefined) return { sources: [], hand: { reason: 'needs the load' }, missing: 'needs the noise of the load: `gm_load` (an active load) or `r_load` (a resistor load)' };
+    const sources: NoiseSource[] = [{ name: 'gm (device)', psd: k * gamma * v.gm, into: [['d', 1]] }];
+    if (v.gm_load !== undefined) sources.push({ name: 'gm_load (load device)', psd: k * gamma * v.gm_load, into: [['d', 1]] });
+    if (v.r_load !== undefined) sources.push({ name: 'r_load (thermal)', psd: k / v.r_load, into: [['d', 1]] });
+    // 4kTγ/gm·(1 + gm_load/gm) with an active load, 4kTγ/gm + 4kT/(gm²·R_D)
+    // with a resistor (B. Razavi, "Design of Analog CMOS Integrated Circuits",
+    // ch. 7, the common-source stage — from memory).
+    const psd = ((k * gamma) / v.gm) * (1 + (v.gm_load ?? 0) / v.gm) + (v.r_load !== undefined ? k / (v.gm * v.gm * v.r_load) : 0);
+    const how = `e_n² ≈ 4kTγ/gm${v.gm_load !== undefined ? '·(1 + gm_load/gm)' : ''}${v.r_load !== undefined ? ' + 4kT/(gm²·r_load)' : ''}`;
+    return { sources, hand: { psd, how } };
+  },
 
   network: (v) => build(v, true),
   beta: () => 1,
@@ -104,6 +133,10 @@ export const commonSource: Topology = {
     bandwidth: ['rout'],
     p1: ['rout'],
     input_capacitance: ['cgd'],
+    input_noise: ['gm', 'gm_load'],
+    integrated_noise: ['gm', 'gm_load'],
+    supply_current: ['i_d', 'i_bias'],
+    power: ['i_d', 'i_bias'],
   },
   hints: () => [],
 };

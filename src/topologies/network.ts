@@ -5,8 +5,9 @@
 
 import type { Element, Network } from '../engine/network';
 import { GROUND } from '../engine/network';
+import { DEFAULT_TEMPERATURE, type NoiseModel, type NoiseSource, fourKT } from '../engine/noise';
 import type { Pos } from '../spec/position';
-import { commonClaims, loadConditions } from './common';
+import { commonClaims, loadConditions, loopBeta, noiseClaims, temperatureCondition } from './common';
 import type { KeySpec, Topology, Values } from './types';
 
 export type ElementKind = 'resistor' | 'capacitor' | 'transconductance';
@@ -20,8 +21,21 @@ export interface NetworkElementDef {
   /** Transconductance only: the controlling voltage v(ctrlP) − v(ctrlN). */
   ctrlP?: string;
   ctrlN?: string;
+  /** Noise the element adds: resistors `thermal` (the default), transconductances `channel` (4kTγ·gm), or `none`. */
+  noise?: ElementNoise;
+  /** Channel-noise factor of a transconductance with `noise: channel` (2/3 when absent). */
+  gamma?: number;
   pos: Pos;
 }
+
+export type ElementNoise = 'thermal' | 'channel' | 'none';
+
+/** The noise each kind of element may carry, the default first. */
+export const ELEMENT_NOISE: Record<ElementKind, readonly ElementNoise[]> = {
+  resistor: ['thermal', 'none'],
+  capacitor: ['none'],
+  transconductance: ['none', 'channel'],
+};
 
 export interface NetworkDef {
   input: string;
@@ -105,8 +119,8 @@ export function networkTopology(def: NetworkDef): Topology {
       required: true,
       description: `${e.kind} ${e.name}`,
     })),
-    conditions: loadConditions,
-    claims: [...commonClaims.filter((c) => c.key !== 'slew_rate'), { key: 'bandwidth', kind: 'frequency', better: 'higher', description: '−3 dB frequency of A(jω)' }],
+    conditions: [...loadConditions, temperatureCondition],
+    claims: [...commonClaims.filter((c) => c.key !== 'slew_rate'), { key: 'bandwidth', kind: 'frequency', better: 'higher', description: '−3 dB frequency of A(jω)' }, ...noiseClaims()],
 
     network(v: Values): Network {
       const out = node(def.output);
@@ -120,13 +134,34 @@ export function networkTopology(def: NetworkDef): Topology {
       if (v.rl !== undefined && Number.isFinite(v.rl)) elements.push({ kind: 'conductance', name: 'rl', a: out, b: GROUND, siemens: 1 / v.rl });
       return { elements, input: node(def.input), output: out };
     },
-    beta: (v) => v.beta ?? 1,
+    beta: loopBeta,
     largeSignal: () => ({}),
+    noise(v: Values): NoiseModel {
+      // A resistor's thermal noise 4kT/R and a transconductance's channel
+      // noise 4kTγ·gm, each a current between the element's two nodes; the
+      // load (cl, rl) is the test condition and noiseless.
+      const k = fourKT(v.temperature ?? DEFAULT_TEMPERATURE);
+      const sources: NoiseSource[] = [];
+      for (const e of def.elements) {
+        const noise = e.noise ?? ELEMENT_NOISE[e.kind][0];
+        if (noise === 'none') continue;
+        const psd = e.kind === 'resistor' ? k / v[e.name] : k * (e.gamma ?? 2 / 3) * v[e.name];
+        sources.push({ name: `${e.name} (${noise})`, psd, into: [[node(e.a), 1], [node(e.b), -1]] });
+      }
+      return { sources, hand: { reason: 'a user-defined network has no textbook noise formula' } };
+    },
     hand: () => ({ figures: {}, caveats: [] }),
     // Any element may be solved for; capacitors first, as compensation is where designs move.
-    knobs: Object.fromEntries(
-      ['gbw', 'phase_margin', 'gain_margin', 'p1', 'p2', 'bandwidth'].map((c) => [c, def.elements.filter((e) => e.kind === 'capacitor').map((e) => e.name).slice(0, 3)]),
-    ),
+    knobs: {
+      ...Object.fromEntries(
+        ['gbw', 'phase_margin', 'gain_margin', 'p1', 'p2', 'bandwidth'].map((c) => [c, def.elements.filter((e) => e.kind === 'capacitor').map((e) => e.name).slice(0, 3)]),
+      ),
+      // The closed loop's figures: the first two capacitors (each evaluation of a time figure costs a step response).
+      ...Object.fromEntries(['closed_loop_bandwidth', 'peaking', 'overshoot', 'rise_time', 'settling_time'].map((c) => [c, def.elements.filter((e) => e.kind === 'capacitor').map((e) => e.name).slice(0, 2)])),
+      // For noise, the noisy transconductances (more gm, less input noise), then the capacitors that set the noise bandwidth.
+      input_noise: def.elements.filter((e) => e.kind === 'transconductance' && e.noise === 'channel').map((e) => e.name).slice(0, 3),
+      integrated_noise: [...def.elements.filter((e) => e.kind === 'capacitor'), ...def.elements.filter((e) => e.kind === 'transconductance' && e.noise === 'channel')].map((e) => e.name).slice(0, 3),
+    },
     hints: () => [],
     diagnose() {
       const floating = floatingNodes(def);

@@ -10,8 +10,9 @@
 
 import { type Figure, figure, missing } from '../engine/figure';
 import type { Element, Network } from '../engine/network';
+import { DEFAULT_TEMPERATURE, type NoiseModel, type NoiseSource, fourKT } from '../engine/noise';
 import { formatQuantity } from '../quantity';
-import { commonClaims, loadConditions, parallel } from './common';
+import { biasCurrentParam, commonClaims, loadConditions, loopBeta, noiseClaims, noiseParams, parallel, powerClaims, supplyConditions, temperatureCondition } from './common';
 import type { Topology, Values } from './types';
 
 const TWO_PI = 2 * Math.PI;
@@ -32,9 +33,19 @@ export const singleStage: Topology = {
     { key: 'gm_mirror', kind: 'conductance', description: 'transconductance of the current-mirror diode device', plausible: [1e-7, 1] },
     { key: 'c_mirror', kind: 'capacitance', description: 'capacitance of the current-mirror node', plausible: [1e-16, 1e-10] },
     { key: 'i_tail', kind: 'current', description: 'tail current of the input pair', plausible: [1e-9, 0.1] },
+    { key: 'gm_load', kind: 'conductance', description: 'transconductance of each load (current-source or mirror) device (noise)', plausible: [1e-7, 1] },
+    { key: 'gm_fold', kind: 'conductance', description: 'transconductance of each folding current-source device of a folded cascode (noise)', plausible: [1e-7, 1] },
+    ...noiseParams,
+    biasCurrentParam,
   ],
-  conditions: loadConditions,
-  claims: commonClaims.map((c) => (c.key === 'slew_rate' ? { ...c, needs: ['i_tail'] } : c)).filter((c) => c.key !== 'rhp_zero'),
+  conditions: [...loadConditions, ...supplyConditions, temperatureCondition],
+  claims: [
+    ...commonClaims.map((c) => (c.key === 'slew_rate' ? { ...c, needs: ['i_tail'] } : c)).filter((c) => c.key !== 'rhp_zero'),
+    ...noiseClaims(['gm_load']),
+    ...powerClaims(['i_tail'], true),
+  ],
+  // A folded cascode's folding branches are counted in i_bias.
+  supplyCurrents: ['i_tail', 'i_bias'],
 
   network(v: Values): Network {
     // The signal current passes the cascode (or folding) node first; behind it,
@@ -77,7 +88,10 @@ export const singleStage: Topology = {
     return { elements, input: 'in', output: 'out' };
   },
 
-  beta: (v) => v.beta ?? 1,
+  beta: loopBeta,
+
+  // The input pair steers at most its tail current into the output (or the folding node).
+  inputStage: (v: Values) => (v.i_tail === undefined ? undefined : { gm: v.gm, tail: v.i_tail }),
 
   largeSignal(v: Values): Record<string, Figure> {
     const how = 'SR = i_tail/(cout + cl)';
@@ -85,6 +99,40 @@ export const singleStage: Topology = {
     const c = v.cout + (v.cl ?? 0);
     if (c <= 0) return { slew_rate: missing('V/s', 'large-signal', how, 'no capacitance at the output: the slew rate is not set by this stage') };
     return { slew_rate: figure(v.i_tail / c, 'V/s', 'large-signal', how) };
+  },
+
+  noise(v: Values): NoiseModel {
+    // Channel noise 4kTγ·gm per device, where each device's current enters
+    // the lumped network: the input pair (and a folded cascode's folding
+    // sources) where the signal current goes — the cascode node, or without
+    // one split like the signal between the output and the mirror; the load
+    // devices at the mirror node and the output (a mirror), or both at the
+    // output. A cascode device's noise circulates in its own branch: it
+    // enters its source node and leaves its drain, so it reaches the output
+    // only through c_cas (correlated injection at xa and out, which cancels
+    // at low frequency). The load (cl, rl) is noiseless.
+    const k = fourKT(v.temperature ?? DEFAULT_TEMPERATURE);
+    const gamma = v.gamma ?? 2 / 3;
+    if (v.gm_load === undefined) return { sources: [], hand: { reason: 'needs gm_load' }, missing: 'needs gm_load, the transconductance of the load devices, whose noise adds to the input pair\'s' };
+    const mirror = hasMirror(v);
+    const cascode = hasCascode(v);
+    const sources: NoiseSource[] = [];
+    const pair = (name: string, gm: number) => {
+      if (cascode) sources.push({ name: `${name} (2 devices)`, psd: 2 * k * gamma * gm, into: [['xa', 1]] });
+      else if (mirror) sources.push({ name: `${name} (direct half)`, psd: k * gamma * gm, into: [['out', 1]] }, { name: `${name} (mirrored half)`, psd: k * gamma * gm, into: [['m', 1]] });
+      else sources.push({ name: `${name} (2 devices)`, psd: 2 * k * gamma * gm, into: [['out', 1]] });
+    };
+    pair('gm (input pair)', v.gm);
+    if (v.gm_fold !== undefined) pair('gm_fold (folding sources)', v.gm_fold);
+    if (mirror) sources.push({ name: 'gm_load (mirror diode)', psd: k * gamma * v.gm_load, into: [['m', 1]] }, { name: 'gm_load (mirror output)', psd: k * gamma * v.gm_load, into: [['out', 1]] });
+    else sources.push({ name: 'gm_load (load, 2 devices)', psd: 2 * k * gamma * v.gm_load, into: [['out', 1]] });
+    if (cascode) sources.push({ name: 'gm_cas (cascode, 2 devices)', psd: 2 * k * gamma * v.gm_cas, into: [['xa', 1], ['out', 1]] });
+    // 2·4kTγ/gm·(1 + gm_load/gm + gm_fold/gm): the input pair, the load and
+    // the folding sources, the cascodes neglected (B. Razavi, "Design of
+    // Analog CMOS Integrated Circuits", ch. 7, telescopic and folded-cascode
+    // noise — from memory).
+    const psd = ((2 * k * gamma) / v.gm) * (1 + v.gm_load / v.gm + (v.gm_fold ?? 0) / v.gm);
+    return { sources, hand: { psd, how: `e_n² ≈ 2·4kTγ/gm·(1 + gm_load/gm${v.gm_fold !== undefined ? ' + gm_fold/gm' : ''}), the cascodes neglected` } };
   },
 
   hand(v: Values, exact: Record<string, Figure>) {
@@ -124,6 +172,17 @@ export const singleStage: Topology = {
     phase_margin: ['gm_cas', 'gm_mirror', 'gm'],
     gain_margin: ['gm_cas', 'gm'],
     slew_rate: ['i_tail'],
+    closed_loop_gain: ['rout', 'gm'],
+    closed_loop_bandwidth: ['gm'],
+    peaking: ['gm_cas', 'gm'],
+    overshoot: ['gm_cas', 'gm'],
+    rise_time: ['gm'],
+    settling_time: ['gm', 'i_tail'],
+    input_noise: ['gm', 'gm_load'],
+    integrated_noise: ['gm', 'gm_load'],
+    supply_current: ['i_tail', 'i_bias'],
+    power: ['i_tail', 'i_bias'],
+    fom: ['i_tail', 'gm'],
   },
 
   hints: () => [],

@@ -14,8 +14,9 @@
 
 import { type Figure, figure, missing } from '../engine/figure';
 import type { Element, Network } from '../engine/network';
+import { DEFAULT_TEMPERATURE, type NoiseModel, fourKT } from '../engine/noise';
 import { formatQuantity } from '../quantity';
-import { commonClaims, loadConditions, parallel } from './common';
+import { biasCurrentParam, commonClaims, loadConditions, loopBeta, noiseClaims, noiseParams, parallel, powerClaims, supplyConditions, temperatureCondition } from './common';
 import type { DesignHint, Topology, Values } from './types';
 
 const TWO_PI = 2 * Math.PI;
@@ -51,9 +52,18 @@ export const threeStageNestedMiller: Topology = {
     stage('cc2', 'inner Miller capacitor, output to node 2', 'capacitance', [1e-14, 1e-10]),
     { key: 'i1', kind: 'current', description: 'first-stage tail current', plausible: [1e-9, 0.1] },
     { key: 'i3', kind: 'current', description: 'output-stage bias current', plausible: [1e-9, 0.1] },
+    { key: 'i2', kind: 'current', description: 'second-stage bias current (supply current only)', plausible: [1e-9, 0.1] },
+    { key: 'gm_load1', kind: 'conductance', description: 'transconductance of each first-stage load device (noise)', plausible: [1e-7, 1] },
+    ...noiseParams,
+    biasCurrentParam,
   ],
-  conditions: loadConditions,
-  claims: commonClaims.map((c) => (c.key === 'slew_rate' ? { ...c, needs: ['i1', 'i3'] } : c)),
+  conditions: [...loadConditions, ...supplyConditions, temperatureCondition],
+  claims: [
+    ...commonClaims.map((c) => (c.key === 'slew_rate' ? { ...c, needs: ['i1', 'i3'] } : c)),
+    ...noiseClaims(['gm_load1']),
+    ...powerClaims(['i1', 'i2', 'i3'], true),
+  ],
+  supplyCurrents: ['i1', 'i2', 'i3', 'i_bias'],
 
   network(v: Values): Network {
     const elements: Element[] = [
@@ -74,7 +84,15 @@ export const threeStageNestedMiller: Topology = {
     return { elements, input: 'in', output: 'out' };
   },
 
-  beta: (v) => v.beta ?? 1,
+  beta: loopBeta,
+
+  inputStage(v: Values) {
+    if (v.i1 === undefined) return undefined;
+    const own = v.i1 / v.cc1;
+    const cl = loadCap(v);
+    const external = v.i3 !== undefined && cl > 0 ? v.i3 / cl : Infinity;
+    return { gm: v.gm1, tail: v.i1, ...(external < own ? { slowerLimit: { slewRate: external, what: 'i3/(c3 + cl), the output stage charging the load' } } : {}) };
+  },
 
   largeSignal(v: Values): Record<string, Figure> {
     const how = 'SR ≈ min(i1/cc1, i3/(c3 + cl)) (first order)';
@@ -83,6 +101,25 @@ export const threeStageNestedMiller: Topology = {
     const internal = v.i1 / v.cc1;
     const external = cl > 0 ? v.i3 / cl : Infinity;
     return { slew_rate: figure(Math.min(internal, external), 'V/s', 'large-signal', `${how}: limited by ${internal <= external ? 'i1/cc1' : 'i3/cl'}`) };
+  },
+
+  noise(v: Values): NoiseModel {
+    // As the two-stage amplifier: the input pair and the first stage's load
+    // (two devices each) at n1, one device for each later stage (gm2 at n2,
+    // gm3 at out), 4kTγ·gm each; the load is noiseless.
+    const k = fourKT(v.temperature ?? DEFAULT_TEMPERATURE);
+    const gamma = v.gamma ?? 2 / 3;
+    if (v.gm_load1 === undefined) return { sources: [], hand: { reason: 'needs gm_load1' }, missing: 'needs gm_load1, the transconductance of the first-stage load devices, whose noise adds to the input pair\'s' };
+    return {
+      sources: [
+        { name: 'gm1 (input pair, 2 devices)', psd: 2 * k * gamma * v.gm1, into: [['n1', 1]] },
+        { name: 'gm_load1 (first-stage load, 2 devices)', psd: 2 * k * gamma * v.gm_load1, into: [['n1', 1]] },
+        { name: 'gm2 (second-stage device)', psd: k * gamma * v.gm2, into: [['n2', 1]] },
+        { name: 'gm3 (output device)', psd: k * gamma * v.gm3, into: [['out', 1]] },
+      ],
+      // The first stage dominates at low frequency: 2·4kTγ/gm1·(1 + gm_load1/gm1) (Razavi, ch. 7, from memory).
+      hand: { psd: ((2 * k * gamma) / v.gm1) * (1 + v.gm_load1 / v.gm1), how: 'e_n² ≈ 2·4kTγ/gm1·(1 + gm_load1/gm1), the first stage only' },
+    };
   },
 
   hand(v: Values, exact: Record<string, Figure>) {
@@ -130,6 +167,17 @@ export const threeStageNestedMiller: Topology = {
     phase_margin: ['cc2', 'cc1', 'gm3'],
     gain_margin: ['cc2', 'gm3'],
     slew_rate: ['i1', 'i3'],
+    closed_loop_gain: ['gm3', 'gm2'],
+    closed_loop_bandwidth: ['cc1', 'gm1'],
+    peaking: ['cc2', 'cc1'],
+    overshoot: ['cc2', 'cc1'],
+    rise_time: ['cc1', 'gm1'],
+    settling_time: ['cc2', 'cc1'],
+    input_noise: ['gm1', 'gm_load1'],
+    integrated_noise: ['gm1', 'cc1', 'gm_load1'],
+    supply_current: ['i3', 'i2', 'i1', 'i_bias'],
+    power: ['i3', 'i2', 'i1', 'i_bias'],
+    fom: ['i3', 'gm1'],
   },
 
   hints: (claim, v) => (claim === 'phase_margin' || claim === 'gain_margin' ? [butterworth(v)] : []),

@@ -10,8 +10,9 @@
 
 import { type Figure, figure, missing } from '../engine/figure';
 import type { Element, Network } from '../engine/network';
+import { DEFAULT_TEMPERATURE, type NoiseModel, type NoiseSource, fourKT } from '../engine/noise';
 import { formatQuantity } from '../quantity';
-import { commonClaims, loadConditions, parallel } from './common';
+import { biasCurrentParam, commonClaims, loadConditions, loopBeta, noiseClaims, noiseParams, parallel, powerClaims, supplyConditions, temperatureCondition } from './common';
 import type { Topology, Values } from './types';
 
 const TWO_PI = 2 * Math.PI;
@@ -38,9 +39,17 @@ export const twoStageMiller: Topology = {
     { key: 'rz', kind: 'resistance', allowZero: true, default: 0, description: 'nulling resistor in series with cc', plausible: [1, 1e7], scale: (v) => 1 / v.gm2 },
     { key: 'i1', kind: 'current', description: 'first-stage tail current', plausible: [1e-9, 0.1] },
     { key: 'i2', kind: 'current', description: 'second-stage bias current', plausible: [1e-9, 0.1] },
+    { key: 'gm_load1', kind: 'conductance', description: 'transconductance of each first-stage load device (noise)', plausible: [1e-7, 1] },
+    ...noiseParams,
+    biasCurrentParam,
   ],
-  conditions: loadConditions,
-  claims: commonClaims.map((c) => (c.key === 'slew_rate' ? { ...c, needs: ['i1', 'i2'] } : c)),
+  conditions: [...loadConditions, ...supplyConditions, temperatureCondition],
+  claims: [
+    ...commonClaims.map((c) => (c.key === 'slew_rate' ? { ...c, needs: ['i1', 'i2'] } : c)),
+    ...noiseClaims(['gm_load1']),
+    ...powerClaims(['i1', 'i2'], true),
+  ],
+  supplyCurrents: ['i1', 'i2', 'i_bias'],
 
   network(v: Values): Network {
     const { c2l } = loaded(v);
@@ -65,7 +74,15 @@ export const twoStageMiller: Topology = {
     return { elements, input: 'in', output: 'out' };
   },
 
-  beta: (v) => v.beta ?? 1,
+  beta: loopBeta,
+
+  inputStage(v: Values) {
+    if (v.i1 === undefined) return undefined;
+    const own = v.i1 / v.cc;
+    const cl = v.cl ?? 0;
+    const external = v.i2 !== undefined && v.i2 > v.i1 && cl > 0 ? (v.i2 - v.i1) / cl : Infinity;
+    return { gm: v.gm1, tail: v.i1, ...(external < own ? { slowerLimit: { slewRate: external, what: '(i2 − i1)/cl, the output stage charging the load' } } : {}) };
+  },
 
   largeSignal(v: Values): Record<string, Figure> {
     // The output node's whole capacitance is slewed: the load and the node's own parasitic (c2 + cl).
@@ -83,6 +100,29 @@ export const twoStageMiller: Topology = {
     const sr = Math.min(internal, external);
     const limit = internal <= external ? 'limited by i1/cc (the first stage charging cc)' : 'limited by (i2 − i1)/(c2 + cl) (the output stage charging the output node)';
     return { slew_rate: figure(sr, 'V/s', 'large-signal', `${how}: ${limit}`) };
+  },
+
+  noise(v: Values): NoiseModel {
+    // Channel noise 4kTγ·gm of each device, as a current beside its signal
+    // current: the input pair and the first stage's load (two devices each)
+    // at n1, the output device at out; rz is a resistor (4kT/rz). The load
+    // (cl, rl) is the test condition and noiseless.
+    const t = v.temperature ?? DEFAULT_TEMPERATURE;
+    const k = fourKT(t);
+    const gamma = v.gamma ?? 2 / 3;
+    if (v.gm_load1 === undefined) return { sources: [], hand: { reason: 'needs gm_load1' }, missing: 'needs gm_load1, the transconductance of the first-stage load devices, whose noise adds to the input pair\'s' };
+    const sources: NoiseSource[] = [
+      { name: 'gm1 (input pair, 2 devices)', psd: 2 * k * gamma * v.gm1, into: [['n1', 1]] },
+      { name: 'gm_load1 (first-stage load, 2 devices)', psd: 2 * k * gamma * v.gm_load1, into: [['n1', 1]] },
+      { name: 'gm2 (output device)', psd: k * gamma * v.gm2, into: [['out', 1]] },
+    ];
+    if (v.rz) sources.push({ name: 'rz (thermal)', psd: k / v.rz, into: [['nz', 1], ['out', -1]] });
+    // The differential pair with a current-mirror load, input-referred:
+    // 2·4kTγ/gm1·(1 + gm_load1/gm1) (B. Razavi, "Design of Analog CMOS
+    // Integrated Circuits", ch. 7; P. E. Allen, D. R. Holberg, "CMOS Analog
+    // Circuit Design", ch. 7 — from memory). The second stage is left out.
+    const psd = ((2 * k * gamma) / v.gm1) * (1 + v.gm_load1 / v.gm1);
+    return { sources, hand: { psd, how: 'e_n² ≈ 2·4kTγ/gm1·(1 + gm_load1/gm1), the first stage only' } };
   },
 
   hand(v: Values, exact: Record<string, Figure>) {
@@ -137,6 +177,20 @@ export const twoStageMiller: Topology = {
     phase_margin: ['cc', 'gm2'],
     gain_margin: ['cc', 'gm2'],
     slew_rate: ['i1', 'i2'],
+    // Closed loop: two knobs each (every evaluation of a time figure costs a
+    // step response): the compensation first; for a settling time with
+    // slewing, the tail current.
+    closed_loop_gain: ['gm2', 'r2'],
+    closed_loop_bandwidth: ['cc', 'gm1'],
+    peaking: ['cc', 'rz'],
+    overshoot: ['cc', 'rz'],
+    rise_time: ['cc', 'gm1'],
+    settling_time: ['cc', 'i1'],
+    input_noise: ['gm1', 'gm_load1'],
+    integrated_noise: ['gm1', 'cc', 'gm_load1'],
+    supply_current: ['i2', 'i1', 'i_bias'],
+    power: ['i2', 'i1', 'i_bias'],
+    fom: ['i2', 'gm1'],
   },
 
   hints(claim: string, v: Values) {

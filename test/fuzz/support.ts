@@ -201,7 +201,7 @@ export function randomMutation(r: Rng): Mutation {
 // Random specs of every topology, values anywhere in 1e-18…1e18 (or near the
 // plausible range), claims of every kind, tables with conditions.
 
-const SI_UNIT: Record<string, string> = { conductance: 'S', resistance: 'Ω', capacitance: 'F', current: 'A', voltage: 'V', time: 's', frequency: 'Hz', slew: 'V/s', gain: 'dB', angle: 'deg', ratio: '' };
+const SI_UNIT: Record<string, string> = { conductance: 'S', resistance: 'Ω', capacitance: 'F', current: 'A', voltage: 'V', time: 's', frequency: 'Hz', slew: 'V/s', gain: 'dB', angle: 'deg', ratio: '', temperature: 'K', noise: 'V/√Hz', power: 'W', fom: 'MHz·pF/mA' };
 
 /** Log-uniform magnitude in [10^lo, 10^hi], written with 4 significant digits. */
 function logValue(r: Rng, lo: number, hi: number): string {

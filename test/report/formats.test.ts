@@ -55,7 +55,7 @@ waivers:
 | Unity-gain bandwidth | GBW | CL = 5 pF | | 35 | | MHz |
 | Unity-gain bandwidth | GBW | | | 25 | | MHz |
 | Phase margin | PM | CL = 5 pF | 65 | | | ° |
-| Slew rate | SR | CL = 5 pF, VDD = 1.8 V | 8 | | | V/µs |
+| Slew rte | | CL = 5 pF | 8 | | | V/µs |
 `;
 
 // Input errors: a transconductance in volts and a misspelt claim.

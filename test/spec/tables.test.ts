@@ -75,7 +75,8 @@ describe('datasheet tables', () => {
 `);
     expect(claims[0].conditions!.values).toEqual({ cl: 10e-12, beta: 0.5, rl: 2000 });
     expect(claims[1].conditions).toBeUndefined();
-    expect(findings.map((f) => [f.severity, f.rule, f.message.includes('TA')])).toEqual([['info', 'table', true]]);
+    // A condition outside the model is a warning at its place: the row is judged without it.
+    expect(findings.map((f) => [f.severity, f.rule, f.message.includes('TA')])).toEqual([['warning', 'table', true]]);
   });
 
   it('reports a bad cell at its place and names the expected unit', () => {
@@ -94,7 +95,7 @@ describe('datasheet tables', () => {
     expect(findings[3].message).toMatch(/did you mean `Phase margin`/);
   });
 
-  it('flags a misspelt model condition and ignores supply and temperature conditions', () => {
+  it('flags a misspelt model condition and warns at supply and temperature conditions', () => {
     const { findings } = read(`
 | Parameter | Conditions | Typ | Unit |
 |---|---|---|---|
@@ -103,8 +104,8 @@ describe('datasheet tables', () => {
 `);
     expect(findings.map((f) => `${f.line}:${f.column} ${f.severity} ${f.rule}`)).toEqual([
       '21:9 error unknown-key',
-      '22:9 info table',
-      '22:22 info table',
+      '22:9 warning table',
+      '22:22 warning table',
     ]);
   });
 

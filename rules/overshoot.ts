@@ -1,0 +1,8 @@
+import { claimRule } from '../src/claim-rule';
+
+export default claimRule({
+  id: 'overshoot',
+  claim: 'overshoot',
+  noun: 'overshoot',
+  description: 'The claimed overshoot matches the exact small-signal step response of the closed loop.',
+});

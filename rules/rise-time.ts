@@ -1,0 +1,8 @@
+import { claimRule } from '../src/claim-rule';
+
+export default claimRule({
+  id: 'rise-time',
+  claim: 'rise_time',
+  noun: 'rise time',
+  description: 'The claimed 10–90 % rise time matches the exact small-signal step response of the closed loop.',
+});

@@ -1,0 +1,8 @@
+import { claimRule } from '../src/claim-rule';
+
+export default claimRule({
+  id: 'supply-current',
+  claim: 'supply_current',
+  noun: 'supply current',
+  description: 'The claimed supply current matches the sum of the stated bias currents.',
+});
