@@ -4,7 +4,7 @@
 // parallel runs never see a half-written entry.
 
 import { createHash } from 'node:crypto';
-import { mkdirSync, readFileSync, renameSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdirSync, readFileSync, renameSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import type { Finding } from './findings';
 import type { Sheet } from './report/sheet';
@@ -27,6 +27,7 @@ export const hashOf = (...parts: string[]): string => {
 export class ResultCache {
   hits = 0;
   misses = 0;
+  private made = false;
   constructor(
     readonly dir: string,
     /** Hash of everything besides the file that decides the findings: version, config. */
@@ -50,7 +51,12 @@ export class ResultCache {
 
   set(content: string, entry: CacheEntry): void {
     try {
-      mkdirSync(this.dir, { recursive: true });
+      if (!this.made) {
+        mkdirSync(this.dir, { recursive: true });
+        this.made = true;
+        // The folder ignores itself in git, so it never lands in a commit.
+        if (!existsSync(join(this.dir, '.gitignore'))) writeFileSync(join(this.dir, '.gitignore'), '# written by polecheck --cache\n*\n');
+      }
       const file = join(this.dir, `${this.key(content)}.json`);
       const tmp = `${file}.${process.pid}.${Math.random().toString(36).slice(2)}.tmp`;
       writeFileSync(tmp, JSON.stringify(entry));

@@ -15,7 +15,7 @@ import { DEFAULT_TOLERANCES, type Tolerances } from './verdict';
 
 export const CONFIG_NAME = 'polecheck.yaml';
 export const CONFIG_KEYS = ['rules', 'tolerances', 'include', 'exclude'] as const;
-const SEVERITIES = ['off', 'info', 'warning', 'error'] as const;
+const SEVERITIES = ['none', 'note', 'warning', 'error'] as const;
 const TOLERANCE_KINDS = ['frequency', 'slew', 'gain', 'angle'] as const;
 
 export interface Config {
@@ -75,17 +75,17 @@ function ruleSettings(path: string, e: YEntry): RuleSettings {
     const near = nearest(e.key, RULES.map((r) => r.id));
     throw new ConfigError(path, e.keyPos, `unknown rule \`${e.key}\`${near ? `; did you mean \`${near}\`?` : ''} ('polecheck rules' lists them)`);
   }
-  const sev = (n: YNode): Severity | 'off' => {
+  const sev = (n: YNode): Severity | 'none' => {
     const s = scalar(n);
-    if (!s || !(SEVERITIES as readonly string[]).includes(s)) throw new ConfigError(path, n.pos, `the severity of \`${e.key}\` is one of ${SEVERITIES.join(', ')}`);
-    return s as Severity | 'off';
+    if (!s || !(SEVERITIES as readonly string[]).includes(s)) throw new ConfigError(path, n.pos, `the level of \`${e.key}\` is one of ${SEVERITIES.join(', ')}`);
+    return s as Severity | 'none';
   };
-  if (e.value.kind === 'scalar') return { severity: sev(e.value) };
-  if (e.value.kind !== 'map') throw new ConfigError(path, e.value.pos, `\`${e.key}\` takes a severity or a mapping of \`severity\` and options`);
+  if (e.value.kind === 'scalar') return { level: sev(e.value) };
+  if (e.value.kind !== 'map') throw new ConfigError(path, e.value.pos, `\`${e.key}\` takes a level or a mapping of \`level\` and options`);
   const out: RuleSettings = {};
   for (const o of e.value.entries) {
-    if (o.key === 'severity') {
-      out.severity = sev(o.value);
+    if (o.key === 'level') {
+      out.level = sev(o.value);
       continue;
     }
     if (!(o.key in rule.options)) {
@@ -132,7 +132,7 @@ export function parseConfig(path: string, text: string): Config {
   for (const e of root.entries) {
     switch (e.key) {
       case 'rules':
-        if (e.value.kind !== 'map') throw new ConfigError(path, e.value.pos, '`rules` maps rule ids to a severity (off, info, warning, error) or to `{severity, options…}`');
+        if (e.value.kind !== 'map') throw new ConfigError(path, e.value.pos, '`rules` maps rule ids to a level (none, note, warning, error) or to `{level, options…}`');
         for (const r of e.value.entries) config.rules[r.key] = ruleSettings(path, r);
         break;
       case 'tolerances':

@@ -15,7 +15,7 @@ export const INPUT_DIAGNOSTICS: readonly { id: string; name: string; description
   { id: 'missing-value', name: 'MissingValue', severity: 'error', description: 'A key without a value.', waivable: true },
   { id: 'missing-param', name: 'MissingParam', severity: 'error', description: 'A param the topology needs is not given.', waivable: true },
   { id: 'network', name: 'UnsolvableNetwork', severity: 'error', description: 'The small-signal model cannot be solved, or a user-defined network is malformed.', waivable: true },
-  { id: 'table', name: 'UncheckedTableContent', severity: 'info', description: 'A datasheet table row or condition that is not checked.', waivable: true },
+  { id: 'table', name: 'UncheckedTableContent', severity: 'note', description: 'A datasheet table row or condition that is not checked.', waivable: true },
   { id: 'waiver', name: 'WaiverProblem', severity: 'error', description: 'A waiver that names an unknown rule, lacks its reason, has expired or matches no finding.', waivable: false },
   { id: 'read-error', name: 'ReadError', severity: 'error', description: 'The file cannot be read.', waivable: false },
   { id: 'encoding', name: 'InvalidEncoding', severity: 'error', description: 'The file is not valid UTF-8.', waivable: false },

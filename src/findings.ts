@@ -3,7 +3,7 @@
 
 import type { Figure } from './engine/figure';
 
-export type Severity = 'error' | 'warning' | 'info';
+export type Severity = 'error' | 'warning' | 'note';
 
 export interface Related {
   line: number;
@@ -82,7 +82,7 @@ export type Fix =
     }
   | { kind: 'none'; text: string; knobs: string[]; range: Record<string, [number, number]> };
 
-export const bySeverity: Record<Severity, number> = { error: 0, warning: 1, info: 2 };
+export const bySeverity: Record<Severity, number> = { error: 0, warning: 1, note: 2 };
 
 /**
  * Rule ids (lowercase letters, digits, hyphens) in code-unit order, which for

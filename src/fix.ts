@@ -1,4 +1,4 @@
-// --fix: rewrite stale typical claims (and, with --fix-bounds, failing bounds)
+// --restate: rewrite stale typical claims (and, with --restate-bounds, failing bounds)
 // to the model's figures. The edits are the restatements the claim rules
 // decided (findings' `fixes`), never judged again here: a waived finding or a
 // rule that is off yields none, and a restatement the rule withheld (a prefix

@@ -56,7 +56,7 @@ export interface Rule {
 }
 
 export interface RuleSettings {
-  severity?: Severity | 'off';
+  level?: Severity | 'none';
   options?: RuleOptions;
 }
 
@@ -64,12 +64,12 @@ export function runRules(rules: readonly Rule[], ctx: RuleContext, settings: Rec
   const out: Finding[] = [];
   for (const rule of rules) {
     const s = settings[rule.id] ?? {};
-    if (s.severity === 'off') continue;
+    if (s.level === 'none') continue;
     const options = { ...rule.options, ...s.options };
     for (const d of rule.check(ctx, options)) {
       // A configured severity replaces the rule's default; a draft that sets
       // its own (a thin margin is a warning from an error rule) keeps it.
-      const severity = d.severity ?? s.severity ?? rule.severity;
+      const severity = d.severity ?? s.level ?? rule.severity;
       out.push({ ...d, rule: rule.id, severity, suggestions: d.suggestions ?? [] });
     }
   }

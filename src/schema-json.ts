@@ -180,17 +180,17 @@ export function jsonSchema(): Schema {
 
 /** The JSON Schema of polecheck.yaml, from the rule registry and the tolerance kinds the reader accepts. */
 export function configSchema(): Schema {
-  const severity = { enum: ['off', 'info', 'warning', 'error'] };
+  const level = { enum: ['none', 'note', 'warning', 'error'], description: 'SARIF level: none turns the rule off' };
   const rules = Object.fromEntries(
     RULES.map((r) => [
       r.id,
       {
         description: r.description,
         anyOf: [
-          severity,
+          level,
           {
             type: 'object',
-            properties: { severity, ...Object.fromEntries(Object.keys(r.options).map((o) => [o, { type: 'number' }])) },
+            properties: { level, ...Object.fromEntries(Object.keys(r.options).map((o) => [o, { type: 'number' }])) },
             additionalProperties: false,
           },
         ],

@@ -40,7 +40,7 @@ export function applyWaivers(findings: Finding[], waivers: Waiver[], today: stri
       out.push(problem(w, 'warning', `the waiver of \`${w.rule}\`${w.claim ? ` for \`${w.claim}\`` : ''} expired on ${w.expires} and no longer applies`, ['renew it after a new review, or fix what it waived']));
       continue;
     }
-    const matched = findings.filter((f) => f.rule === w.rule && (!w.claim || f.claim === w.claim) && f.severity !== 'info');
+    const matched = findings.filter((f) => f.rule === w.rule && (!w.claim || f.claim === w.claim) && f.severity !== 'note');
     for (const f of matched) f.waived = { reason: w.reason, ...(w.expires ? { expires: w.expires } : {}), line: w.pos.line };
     if (!matched.length) out.push(problem(w, 'warning', `the waiver of \`${w.rule}\`${w.claim ? ` for \`${w.claim}\`` : ''} matches no finding; remove it if the deviation is gone`));
   }

@@ -40,7 +40,7 @@ describe('rule registry', () => {
     for (const r of RULES) {
       expect(r.description, r.id).toMatch(/^\S.*\.$/);
       expect(r.description.includes('\n'), r.id).toBe(false);
-      expect(['error', 'warning', 'info']).toContain(r.severity);
+      expect(['error', 'warning', 'note']).toContain(r.severity);
       for (const v of Object.values(r.options)) expect(Number.isFinite(v), r.id).toBe(true);
     }
   });

@@ -12,31 +12,36 @@ export const DEFAULT_MAX_BYTES = 5 * 1024 * 1024;
 
 export const HELP = `polecheck ${VERSION} — checks the claims of analog block specs against their exact small-signal model
 
-usage:
-  polecheck [check] [options] [paths…]   check specs (files, or folders searched for *.md)
-  polecheck report [options] [paths…]    every claim: claimed, exact, hand estimate, verdict (exit 0)
-  polecheck rules                        list the rules with their default severity
-  polecheck explain RULE                 print a rule's documentation
-  polecheck schema [spec|config]         print the JSON Schema (draft-07) of the front matter or of polecheck.yaml
+  polecheck [check] [paths…]      judge every claim of the specs (files, or folders searched for *.md)
+  polecheck report [paths…]       every claim: stated, exact, hand estimate, verdict (exit 0)
+  polecheck rules                 the rules and their levels
+  polecheck explain ID            a rule's page, or what a reader finding means
+  polecheck schema [spec|config]  the JSON Schema (draft-07) of the front matter or of polecheck.yaml
 
-options:
-  --format FORMAT        text (default), json, sarif, github or gitlab
-  --max-warnings N       exit 1 when there are more than N warnings
-  --quiet                show errors only
-  --output-file PATH     write the report to PATH instead of standard output
-  --config PATH          use this configuration instead of the nearest polecheck.yaml
-  --fix                  rewrite stale typical claims to the model's figures (atomically)
-  --fix-bounds           with --fix: also rewrite failing min/max bounds
-  --fix-dry-run          print the --fix edits as a unified diff; write nothing
-  --changed [REF]        check only the files changed against a git ref (default HEAD)
-  --shard I/N            check the I-th of N deterministic slices of the file list
-  --cache                reuse findings of unchanged files (keyed by content, config, version)
-  --cache-location DIR   where the cache lives (default ${DEFAULT_CACHE_DIR})
-  --max-bytes N          refuse files larger than N bytes (default ${DEFAULT_MAX_BYTES})
-  -h, --help             this text
-  -v, --version          the version
+what to check
+  --config PATH            settings from PATH instead of the nearest polecheck.yaml
+  --changed [REF]          only files changed since REF (default HEAD; a branch: since the merge base)
+  --shard I/N              the I-th of N fixed slices of the file list (parallel CI jobs)
+  --max-bytes N            refuse files larger than N bytes (default ${DEFAULT_MAX_BYTES})
+  --cache                  reuse the findings of unchanged files
+  --cache-dir DIR          where those are kept (default ${DEFAULT_CACHE_DIR}; it ignores itself in git)
 
-exit status: 0 no errors, 1 errors found (or too many warnings), 2 the command could not run.`;
+how to say it
+  --format FORMAT          text (the review sheet, default), json, sarif, github or gitlab
+  --out PATH               write the report to PATH instead of standard output
+  --errors-only            leave out warnings, notes and claims that hold
+  --warnings-allowed N     exit 1 when there are more than N warnings
+
+rewriting stated claims (never a design)
+  --restate                rewrite stale typical claims to the model's figures, atomically
+  --restate-bounds         with --restate: also move failing min/max bounds
+  --preview                show what --restate would write as a unified diff; write nothing
+
+  -h, --help               this text
+  -v, --version            the version
+
+exit status: 0 nothing fails, 1 a claim fails or too many warnings, 2 the command could not run.
+Figures are first-order small-signal estimates; transistor-level simulation and sign-off decide.`;
 
 export class UsageError extends Error {}
 
@@ -46,23 +51,23 @@ export type Format = (typeof FORMATS)[number];
 export interface Options {
   command: 'check' | 'report' | 'rules' | 'explain' | 'schema' | 'help' | 'version';
   format: Format;
-  maxWarnings?: number;
-  quiet: boolean;
-  outputFile?: string;
+  warningsAllowed?: number;
+  errorsOnly: boolean;
+  out?: string;
   maxBytes: number;
   config?: string;
-  fix: boolean;
-  fixBounds: boolean;
-  fixDryRun: boolean;
+  restate: boolean;
+  restateBounds: boolean;
+  preview: boolean;
   changed?: string;
   shard?: { index: number; count: number };
   cache: boolean;
-  cacheLocation: string;
+  cacheDir: string;
   paths: string[];
 }
 
 export function parseArgs(argv: string[]): Options {
-  const o: Options = { command: 'check', format: 'text', quiet: false, maxBytes: DEFAULT_MAX_BYTES, fix: false, fixBounds: false, fixDryRun: false, cache: false, cacheLocation: DEFAULT_CACHE_DIR, paths: [] };
+  const o: Options = { command: 'check', format: 'text', errorsOnly: false, maxBytes: DEFAULT_MAX_BYTES, restate: false, restateBounds: false, preview: false, cache: false, cacheDir: DEFAULT_CACHE_DIR, paths: [] };
   const args = [...argv];
   if (args[0] && ['check', 'report', 'rules', 'explain', 'schema'].includes(args[0])) o.command = args.shift() as Options['command'];
   const value = (flag: string, inline: string | undefined): string => {
@@ -95,14 +100,14 @@ export function parseArgs(argv: string[]): Options {
       case '--config':
         o.config = value(flag, inline);
         break;
-      case '--fix':
-        o.fix = true;
+      case '--restate':
+        o.restate = true;
         break;
-      case '--fix-bounds':
-        o.fixBounds = true;
+      case '--restate-bounds':
+        o.restateBounds = true;
         break;
-      case '--fix-dry-run':
-        o.fixDryRun = true;
+      case '--preview':
+        o.preview = true;
         break;
       case '--changed':
         // The ref is optional: take the next word only if it is not a path that exists or an option.
@@ -120,21 +125,21 @@ export function parseArgs(argv: string[]): Options {
       case '--cache':
         o.cache = true;
         break;
-      case '--cache-location':
-        o.cacheLocation = value(flag, inline);
+      case '--cache-dir':
+        o.cacheDir = value(flag, inline);
         o.cache = true;
         break;
-      case '--max-warnings':
-        o.maxWarnings = count(flag, value(flag, inline));
+      case '--warnings-allowed':
+        o.warningsAllowed = count(flag, value(flag, inline));
         break;
       case '--max-bytes':
         o.maxBytes = count(flag, value(flag, inline));
         break;
-      case '--quiet':
-        o.quiet = true;
+      case '--errors-only':
+        o.errorsOnly = true;
         break;
-      case '--output-file':
-        o.outputFile = value(flag, inline);
+      case '--out':
+        o.out = value(flag, inline);
         break;
       case '-h':
       case '--help':
@@ -148,7 +153,7 @@ export function parseArgs(argv: string[]): Options {
         throw new UsageError(`unknown option '${a}' (see polecheck --help)`);
     }
   }
-  if (o.fixBounds && !o.fix && !o.fixDryRun) throw new UsageError('--fix-bounds goes with --fix or --fix-dry-run');
+  if (o.restateBounds && !o.restate && !o.preview) throw new UsageError('--restate-bounds goes with --restate or --preview');
   return o;
 }
 

@@ -145,7 +145,7 @@ export function readSpecFile(file: string, maxBytes: number, path = file): ReadF
   }
   if (!looksLikeSpec(bytes.subarray(0, HEAD_BYTES))) return { kind: 'done', result: { path, skipped: true, findings: [] } };
   try {
-    // ignoreBOM keeps a byte-order mark in the text, so that --fix writes it back.
+    // ignoreBOM keeps a byte-order mark in the text, so that --restate writes it back.
     return { kind: 'text', text: new TextDecoder('utf-8', { fatal: true, ignoreBOM: true }).decode(bytes) };
   } catch {
     return { kind: 'done', result: readError(path, 'encoding', 'the file is not valid UTF-8') };

@@ -1,5 +1,5 @@
 // One file checked and reduced to what the requested output needs: the
-// findings, the planned --fix edits, the reviewer report's section. The
+// findings, the planned --restate edits, the reviewer report's section. The
 // models, operating points and the memo of evaluated models stay behind,
 // so a folder of any size holds only findings and text. The outcome is plain
 // data, the same whether it was made in this thread or in a worker.
@@ -11,7 +11,7 @@ import type { Sheet } from '../report/sheet';
 
 export interface JobSettings {
   check: CheckOptions;
-  /** --fix / --fix-dry-run: plan the edits; with `recheck`, also check the fixed text (its findings stand once it is written). */
+  /** --restate / --preview: plan the edits; with `recheck`, also check the fixed text (its findings stand once it is written). */
   fix?: { bounds: boolean; recheck: boolean };
   /** `report` in the reviewer's format: render each file's section, in colour or not. */
   review?: { color: boolean };
@@ -31,7 +31,7 @@ export interface Checked {
 }
 
 export interface Outcome extends Checked {
-  /** Present when --fix or --fix-dry-run has edits for the file. */
+  /** Present when --restate or --preview has edits for the file. */
   fix?: {
     /** The text as read, which the file must still hold when the fix is written. */
     text: string;

@@ -31,7 +31,7 @@ export interface Output {
   render(results: Checked[]): string;
   /** `report` in the reviewer's format: one file's section, rendered as soon as the file is checked. */
   section?: Reviewer;
-  /** --fix-dry-run: one file's edits as a unified diff. */
+  /** --preview: one file's edits as a unified diff. */
   diff?: Differ;
 }
 
@@ -42,7 +42,7 @@ export function modulesFor(o: Options): Lazy[] {
   const out: Lazy[] = [];
   if (o.command === 'report') out.push(o.format === 'json' ? 'json' : 'review');
   else if (o.format !== 'text') out.push(o.format);
-  if (o.fixDryRun) out.push('diff');
+  if (o.preview) out.push('diff');
   return out;
 }
 
@@ -79,8 +79,8 @@ export const reviewerFrom = (review: NonNullable<WriterModules['review']>, color
 // Results as the writers take them: a checked file is a FileResult without its models.
 const asResults = (results: Checked[]): FileResult[] => results;
 
-const quietly = (results: FileResult[], quiet: boolean): FileResult[] =>
-  quiet ? results.map((r) => ({ ...r, findings: r.findings.filter((f) => f.severity === 'error' && !f.waived) })) : results;
+const quietly = (results: FileResult[], errorsOnly: boolean): FileResult[] =>
+  errorsOnly ? results.map((r) => ({ ...r, findings: r.findings.filter((f) => f.severity === 'error' && !f.waived) })) : results;
 
 export function outputFrom(o: Options, color: boolean, m: WriterModules): Output {
   const p = paint(color);
@@ -90,7 +90,7 @@ export function outputFrom(o: Options, color: boolean, m: WriterModules): Output
     return mod as NonNullable<WriterModules[K]>;
   };
   const out: Output = { render: () => '' };
-  if (o.fixDryRun) {
+  if (o.preview) {
     const { FILE_HEADERS_ONLY, createTwoFilesPatch } = need('diff');
     out.diff = (path, before, after) => createTwoFilesPatch(path, path, before, after, undefined, undefined, { context: 3, headerOptions: FILE_HEADERS_ONLY });
   }
@@ -109,7 +109,7 @@ export function outputFrom(o: Options, color: boolean, m: WriterModules): Output
   switch (o.format) {
     case 'json': {
       const { jsonReport } = need('json');
-      out.render = (results) => jsonReport(asResults(results), { quiet: o.quiet });
+      out.render = (results) => jsonReport(asResults(results), { errorsOnly: o.errorsOnly });
       break;
     }
     case 'sarif': {
@@ -127,16 +127,16 @@ export function outputFrom(o: Options, color: boolean, m: WriterModules): Output
     }
     case 'github': {
       const { githubReport } = need('github');
-      out.render = (results) => githubReport(quietly(asResults(results), o.quiet));
+      out.render = (results) => githubReport(quietly(asResults(results), o.errorsOnly));
       break;
     }
     case 'gitlab': {
       const { gitlabReport } = need('gitlab');
-      out.render = (results) => gitlabReport(quietly(asResults(results), o.quiet));
+      out.render = (results) => gitlabReport(quietly(asResults(results), o.errorsOnly));
       break;
     }
     default:
-      out.render = (results) => text.textReport(asResults(results), p, { quiet: o.quiet });
+      out.render = (results) => text.textReport(asResults(results), p, { errorsOnly: o.errorsOnly });
   }
   return out;
 }

@@ -108,14 +108,14 @@ export function prepare(argv: string[], io: MainIO): Prepared | number {
     throw err;
   }
 
-  const color = o.outputFile ? false : useColor(io.env, io.isTTY);
+  const color = o.out ? false : useColor(io.env, io.isTTY);
   // One date for the whole run, in every thread: waiver expiry does not depend on which thread checked a file.
   const job: JobSettings = { check: { rules: config.rules, tolerances: config.tolerances, today: todayIso() } };
-  if (o.fix || o.fixDryRun) job.fix = { bounds: o.fixBounds, recheck: !o.fixDryRun };
+  if (o.restate || o.preview) job.fix = { bounds: o.restateBounds, recheck: !o.preview };
   if (o.command === 'report' && o.format !== 'json') job.review = { color };
   // The cache serves plain checks only: reports, fixes and their diffs need the models.
-  const useCache = o.cache && o.command === 'check' && !o.fix && !o.fixDryRun;
-  const cache = useCache ? new ResultCache(resolve(cwd, o.cacheLocation), hashOf(VERSION, CACHE_FORMAT, JSON.stringify(config.rules), JSON.stringify(config.tolerances), new Date().toISOString().slice(0, 10))) : undefined;
+  const useCache = o.cache && o.command === 'check' && !o.restate && !o.preview;
+  const cache = useCache ? new ResultCache(resolve(cwd, o.cacheDir), hashOf(VERSION, CACHE_FORMAT, JSON.stringify(config.rules), JSON.stringify(config.tolerances), new Date().toISOString().slice(0, 10))) : undefined;
   return { kind: 'files', o, files, cwd, color, job, cache };
 }
 
@@ -127,23 +127,23 @@ export function printSchema(which: 'spec' | 'config', io: MainIO, m: typeof impo
 /** Writes the fixes, renders the report and returns the exit status. */
 export function finish(plan: Plan, outcomes: Outcome[], output: Output, io: MainIO): number {
   const { o } = plan;
-  if (o.fix || o.fixDryRun) {
-    const status = writeFixes(outcomes, io, plan.cwd, o.fixDryRun ? output.diff : undefined);
+  if (o.restate || o.preview) {
+    const status = writeFixes(outcomes, io, plan.cwd, o.preview ? output.diff : undefined);
     if (status !== undefined) return status;
   }
   const text = output.render(outcomes);
-  if (o.outputFile) {
+  if (o.out) {
     try {
-      writeFileSync(o.outputFile, text);
+      writeFileSync(o.out, text);
     } catch (err) {
-      io.stderr(`polecheck: cannot write ${o.outputFile}: ${(err as Error).message}\n`);
+      io.stderr(`polecheck: cannot write ${o.out}: ${(err as Error).message}\n`);
       return 2;
     }
   } else io.stdout(text);
   if (o.command === 'report') return 0;
   const s = summarize(outcomes);
   if (s.errors > 0) return 1;
-  if (o.maxWarnings !== undefined && s.warnings > o.maxWarnings) return 1;
+  if (o.warningsAllowed !== undefined && s.warnings > o.warningsAllowed) return 1;
   return 0;
 }
 

@@ -1,4 +1,4 @@
-// --fix and --fix-dry-run: the planned edits written atomically, or shown as diffs.
+// --restate and --preview: the planned edits written atomically, or shown as diffs.
 
 import { readFileSync, renameSync, statSync, unlinkSync, writeFileSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';

@@ -29,7 +29,7 @@ export interface GitlabIssue {
 const INPUT_IDS = new Set(INPUT_DIAGNOSTICS.map((d) => d.id));
 
 export function gitlabSeverity(f: Finding): GitlabSeverity {
-  if (f.severity === 'info') return 'info';
+  if (f.severity === 'note') return 'info';
   if (f.severity === 'warning') return 'minor';
   return INPUT_IDS.has(f.rule) ? 'critical' : 'major';
 }

@@ -11,11 +11,11 @@ function fixForReport(f: Fix): unknown {
   return { ...rest, edit: edit ? { line: edit.line, column: edit.column, endLine: edit.endLine, endColumn: edit.endColumn, text: edit.text } : null };
 }
 
-export function jsonReport(results: FileResult[], opts: { quiet?: boolean } = {}): string {
+export function jsonReport(results: FileResult[], opts: { errorsOnly?: boolean } = {}): string {
   const files = results.map((r) => ({
     path: r.path,
     skipped: r.skipped,
-    findings: r.findings.filter((f) => !opts.quiet || (f.severity === 'error' && !f.waived)).map((f) => ({
+    findings: r.findings.filter((f) => !opts.errorsOnly || (f.severity === 'error' && !f.waived)).map((f) => ({
       rule: f.rule,
       severity: f.severity,
       line: f.line,

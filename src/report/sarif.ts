@@ -30,7 +30,7 @@ export interface SarifOptions {
 const SRCROOT = '%SRCROOT%';
 const FINGERPRINT_KEY = 'polecheckFingerprint/v1';
 
-const LEVEL: Record<Severity, 'error' | 'warning' | 'note'> = { error: 'error', warning: 'warning', info: 'note' };
+const LEVEL: Record<Severity, 'error' | 'warning' | 'note'> = { error: 'error', warning: 'warning', note: 'note' };
 
 const pascal = (id: string): string =>
   id

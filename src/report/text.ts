@@ -26,7 +26,7 @@ export function printable(s: string): string {
 
 const pad = (s: string, n: number): string => s + ' '.repeat(Math.max(0, n - [...s].length));
 
-export function textReport(results: SheetResult[], p: Paint, opts: { quiet?: boolean } = {}): string {
+export function textReport(results: SheetResult[], p: Paint, opts: { errorsOnly?: boolean } = {}): string {
   const lines: string[] = [];
   let blocks = 0;
   let claims = 0;
@@ -45,7 +45,7 @@ export function textReport(results: SheetResult[], p: Paint, opts: { quiet?: boo
       const loop = sheet.stability === undefined ? '' : sheet.stability === 'stable' ? ' · loop stable' : sheet.stability === 'unstable' ? ` · ${p.red('loop UNSTABLE')}` : ` · ${p.yellow('loop stability unknown')}`;
       out.push(`${p.bold(printable(sheet.block))}${sheet.title ? ` — ${printable(sheet.title)}` : ''} · ${sheet.topology}${sheet.point ? ` · ${sheet.point}` : ''}${loop}`);
       out.push(`  ${p.dim(path)}`);
-      const shown = sheet.rows.filter((row) => row.outcome !== 'holds' && (!opts.quiet || (row.outcome === 'fails' && !row.waived)));
+      const shown = sheet.rows.filter((row) => row.outcome !== 'holds' && (!opts.errorsOnly || (row.outcome === 'fails' && !row.waived)));
       const name = (row: SheetRow) => (row.where ? `${row.key} (${printable(row.where)})` : row.key);
       const w = {
         key: Math.max(0, ...shown.map((row) => [...name(row)].length)),
@@ -69,7 +69,7 @@ export function textReport(results: SheetResult[], p: Paint, opts: { quiet?: boo
       }
       for (const f of r.findings) if (f.verdict && sheet.rows.some((row) => row.key === f.claim && row.line === f.line && row.column === f.column)) inSheet.add(key(f));
       const holding = sheet.rows.filter((row) => row.outcome === 'holds');
-      if (holding.length && !opts.quiet) {
+      if (holding.length && !opts.errorsOnly) {
         // One line, wrapped at about 100 columns under its own indent.
         const items = holding.map((row) => `${name(row)} ${row.model}`);
         let current = '';
@@ -87,7 +87,7 @@ export function textReport(results: SheetResult[], p: Paint, opts: { quiet?: boo
     // Rules of thumb and input problems: everything not a row of the sheet.
     for (const f of r.findings) {
       if (inSheet.has(key(f))) continue;
-      if (opts.quiet && (f.severity !== 'error' || f.waived)) continue;
+      if (opts.errorsOnly && (f.severity !== 'error' || f.waived)) continue;
       const tag = f.waived ? p.dim('waived ') : f.severity === 'error' ? p.red('error  ') : f.severity === 'warning' ? p.yellow('warning') : p.blue('note   ');
       out.push(`  ${tag} ${f.rule}: ${printable(f.message)}  ${p.dim(place(f.line, f.column))}`);
       if (f.waived) out.push(`          ${p.dim(`accepted at line ${f.waived.line}${f.waived.expires ? ` until ${f.waived.expires}` : ''}: ${printable(f.waived.reason)}`)}`);
@@ -97,7 +97,7 @@ export function textReport(results: SheetResult[], p: Paint, opts: { quiet?: boo
     if (!sheet && out.length) out.unshift(p.bold(path));
     // With errors only, a block with nothing to show is not listed at all.
     const body = sheet ? out.length - 2 : out.length;
-    if (out.length && !(opts.quiet && body === 0)) lines.push(...out, '');
+    if (out.length && !(opts.errorsOnly && body === 0)) lines.push(...out, '');
   }
   const s = summarize(results);
   const n = (k: number, one: string, many = `${one}s`) => `${k} ${k === 1 ? one : many}`;

@@ -312,7 +312,7 @@ function readTable(table: MdNode, topology: Topology, claims: ClaimEntry[], find
     if (!key) {
       // Only a near miss of a long name suggests a misspelt claim; short symbols match too much.
       const near = nearest(name.text, aliasNames.filter((a) => a.length > 4));
-      if (near && editDistance(norm(name.text), norm(near)) <= Math.max(1, Math.floor(norm(near).length / 5))) findings.push(finding('table', 'info', name.pos, `row \`${name.text}\` names no claim polecheck checks; did you mean \`${near}\`?`));
+      if (near && editDistance(norm(name.text), norm(near)) <= Math.max(1, Math.floor(norm(near).length / 5))) findings.push(finding('table', 'note', name.pos, `row \`${name.text}\` names no claim polecheck checks; did you mean \`${near}\`?`));
       continue;
     }
     const spec = topology.claims.find((c) => c.key === key)!;
@@ -335,7 +335,7 @@ function readTable(table: MdNode, topology: Topology, claims: ClaimEntry[], find
     findings.push(...rowFindings);
     if (!ok || conditions === null) continue;
     if (!entry.min && !entry.typ && !entry.max) {
-      findings.push(finding('table', 'info', name.pos, `row \`${name.text}\` gives no value in Min, Typ or Max`, [], key));
+      findings.push(finding('table', 'note', name.pos, `row \`${name.text}\` gives no value in Min, Typ or Max`, [], key));
       continue;
     }
     if (entry.min && entry.max && entry.min.quantity.value > entry.max.quantity.value) {

@@ -6,7 +6,7 @@ export interface QuantityAt {
   quantity: Quantity;
   pos: Pos;
   /**
-   * File offsets (in the text as read, BOM excluded) of what `--fix` may
+   * File offsets (in the text as read, BOM excluded) of what `--restate` may
    * replace: the value's text, and in a table cell whose unit is in the Unit
    * column, the number alone (`numberOnly`).
    */

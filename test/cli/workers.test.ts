@@ -1,6 +1,6 @@
 // Worker threads (src/cli/pool.ts): a folder checked by worker threads gives
 // the report a single thread gives, byte for byte and in the same order, in
-// every format and with --fix; a single file or a small folder starts none.
+// every format and with --restate; a single file or a small folder starts none.
 //
 // Workers need the bundle's dist/worker.js, so these tests run the command
 // built by the project's own build script into a scratch folder (the shared
@@ -152,8 +152,8 @@ describe('a folder checked in worker threads', () => {
     ['the reviewer report as JSON', ['report', '--format', 'json', 'some']],
     ['SARIF', ['--format', 'sarif', 'some']],
     ['GitLab', ['--format', 'gitlab', 'some']],
-    ['GitHub, quiet', ['--format', 'github', '--quiet', 'some']],
-    ['--fix-dry-run --fix-bounds', ['--fix-dry-run', '--fix-bounds', 'some']],
+    ['GitHub, quiet', ['--format', 'github', '--errors-only', 'some']],
+    ['--preview --restate-bounds', ['--preview', '--restate-bounds', 'some']],
   ])('%s: the same bytes from two workers as from one thread', (_, args) => {
     const threaded = command(args, '2');
     const single = command(args, '0');
@@ -164,11 +164,11 @@ describe('a folder checked in worker threads', () => {
     expect(threaded.out.length).toBeGreaterThan(1000);
   });
 
-  it('--fix writes the same files, says the same, and reports the same, from two workers as from one thread', () => {
+  it('--restate writes the same files, says the same, and reports the same, from two workers as from one thread', () => {
     const run = (workers: string) => {
       const dir = join(scratch, `fix-${workers}`);
       cpSync(some, dir, { recursive: true });
-      const r = spawnCommand(['--fix', '--fix-bounds', '--format', 'json', dir], workers);
+      const r = spawnCommand(['--restate', '--restate-bounds', '--format', 'json', dir], workers);
       const files = Object.fromEntries(readdirSync(dir).filter((n) => n.endsWith('.md')).map((n) => [n, readFileSync(join(dir, n), 'utf8')]));
       return { r, files, dir };
     };
@@ -185,10 +185,11 @@ describe('a folder checked in worker threads', () => {
 
   it('--cache: the entries written by workers serve a second run, and the report is the same', () => {
     const cache = join(scratch, 'cache-workers');
-    const first = spawnCommand(['--cache-location', cache, '--format', 'json', 'some'], '2');
-    // One entry per spec checked.
-    expect(readdirSync(cache)).toHaveLength(SOME);
-    const second = spawnCommand(['--cache-location', cache, '--format', 'json', 'some'], '2');
+    const first = spawnCommand(['--cache-dir', cache, '--format', 'json', 'some'], '2');
+    // One entry per spec checked, and a .gitignore that keeps the folder out of git.
+    expect(readdirSync(cache).filter((n) => n.endsWith('.json'))).toHaveLength(SOME);
+    expect(readFileSync(join(cache, '.gitignore'), 'utf8')).toMatch(/^\*$/m);
+    const second = spawnCommand(['--cache-dir', cache, '--format', 'json', 'some'], '2');
     expect([first.workers, second.workers]).toEqual([2, 2]);
     expect(second.out).toBe(first.out);
     expect(first.out).toBe(command(['--format', 'json', 'some'], '0').out);

@@ -105,7 +105,7 @@ describe('line ends and a BOM change nothing but bytes', () => {
   });
 });
 
-describe('--fix on damaged documents loses no data', () => {
+describe('--restate on damaged documents loses no data', () => {
   // Every byte outside the edited spans is kept, spans never cross a line end,
   // and the fixed document is checked again without an exception.
   const variants = fc.tuple(mutated, fc.constantFrom('as is', 'crlf', 'bom+crlf', 'cr'));

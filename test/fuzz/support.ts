@@ -336,7 +336,7 @@ export function randomGarbage(r: Rng): string {
 // ---------------------------------------------------------------------------
 // Well-formed output.
 
-export const SEVERITIES = ['error', 'warning', 'info'] as const;
+export const SEVERITIES = ['error', 'warning', 'note'] as const;
 const BAD_TEXT = /NaN|undefined|\[object Object\]/;
 /** In reports: a non-finite number printed as text. */
 const BAD_REPORT = /NaN|Infinity|undefined|\[object Object\]/;

@@ -112,7 +112,7 @@ describe('the invented specs give the findings the formats are tested with', () 
     expect(find(rs, 'second-pole-spacing', 20).severity).toBe('warning');
     expect(find(rs, 'gain-bandwidth', 30).column).toBe(46);
     expect(find(rs, 'conflicting-claims', 31).related).toEqual([{ line: 19, column: 3, message: expect.stringContaining('40 MHz') }]);
-    expect(find(rs, 'table', 33).severity).toBe('info');
+    expect(find(rs, 'table', 33).severity).toBe('note');
     expect(all.filter((f) => f.waived).map((f) => `${f.line} ${f.rule}`)).toEqual(['20 phase-margin', '32 phase-margin']);
     expect(all.filter((f) => f.rule === 'waiver')).toEqual([]);
     expect(find(rs, 'wrong-unit', 9).column).toBe(12);

@@ -88,10 +88,10 @@ const rows: Row[] = [
     expected: (s) => [{ severity: 'warning', at: { claimKey: 'p2' }, computed: p2Of(s), within: 1e-8, says: ['above 10×'] }],
   },
   {
-    name: 'severity configured to error',
+    name: 'level configured to error',
     rule: 'second-pole-spacing',
     spec: variant({ p2: '23 MHz' }, HEAVY),
-    options: { rules: { 'second-pole-spacing': { severity: 'error' } } },
+    options: { rules: { 'second-pole-spacing': { level: 'error' } } },
     ratio: p2Ratio,
     threshold: 2.2,
     expected: (s) => [{ severity: 'error', at: { claimKey: 'p2' }, computed: p2Of(s), within: 1e-8 }],

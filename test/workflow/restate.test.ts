@@ -1,4 +1,4 @@
-// Restating never does harm: the edits --fix writes are the restatements the
+// Restating never does harm: the edits --restate writes are the restatements the
 // claim rules decided, so a rule that is off or a waived finding yields none; a
 // figure resting on a likely prefix slip is not restated; a table row is never
 // given a Min above its Typ.
@@ -40,7 +40,7 @@ describe('restating', () => {
   });
 
   it('writes nothing for a rule that is off', () => {
-    expect(edits(spec(), { rules: { 'gain-bandwidth': { severity: 'off' } } })).toEqual([]);
+    expect(edits(spec(), { rules: { 'gain-bandwidth': { level: 'none' } } })).toEqual([]);
   });
 
   it('writes nothing for a waived finding', () => {

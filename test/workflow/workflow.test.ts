@@ -1,4 +1,4 @@
-// The workflow around the checks: configuration, waivers, --fix, cache,
+// The workflow around the checks: configuration, waivers, --restate, cache,
 // shards, --changed and the published schema.
 import { execFileSync } from 'node:child_process';
 import { mkdirSync, mkdtempSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
@@ -53,14 +53,14 @@ describe('configuration (polecheck.yaml)', () => {
     expect(r.findings.filter((f) => f.rule === 'gain-bandwidth').map((f) => f.severity)).toEqual(['warning']);
     const widened = parseConfig('p.yaml', 'tolerances:\n  frequency: 20%\n');
     expect(checkText('a.md', text, { tolerances: widened.tolerances }).findings.filter((f) => f.rule === 'gain-bandwidth')).toEqual([]);
-    const off = parseConfig('p.yaml', 'rules:\n  gain-bandwidth: off\n');
+    const off = parseConfig('p.yaml', 'rules:\n  gain-bandwidth: none\n');
     expect(checkText('a.md', text, { rules: off.rules }).findings.filter((f) => f.rule === 'gain-bandwidth')).toEqual([]);
   });
 
   it('reports an invalid configuration at its line and column', () => {
     const cases: Array<[string, string, RegExp]> = [
-      ['rules:\n  phase-margn: off\n', 'p.yaml:2:3', /unknown rule `phase-margn`; did you mean `phase-margin`/],
-      ['rules:\n  phase-margin: loud\n', 'p.yaml:2:17', /severity of `phase-margin` is one of off, info, warning, error/],
+      ['rules:\n  phase-margn: none\n', 'p.yaml:2:3', /unknown rule `phase-margn`; did you mean `phase-margin`/],
+      ['rules:\n  phase-margin: loud\n', 'p.yaml:2:17', /level of `phase-margin` is one of none, note, warning, error/],
       ['rules:\n  second-pole-spacing: {ratio: high}\n', 'p.yaml:2:32', /option `ratio` of `second-pole-spacing` takes a number/],
       ['rules:\n  phase-margin: {ratio: 2}\n', 'p.yaml:2:18', /`phase-margin` has no option `ratio`/],
       ['tolerances:\n  frequency: 5 dB\n', 'p.yaml:2:14', /takes a positive percentage/],
@@ -90,7 +90,7 @@ describe('configuration (polecheck.yaml)', () => {
     expect(run(['a.md'], join(root, 'docs', 'amps')).status).toBe(0);
     writeFileSync(join(root, 'strict.yaml'), 'rules:\n  gain-bandwidth: error\n');
     expect(run(['--config', join(root, 'strict.yaml'), 'a.md'], join(root, 'docs', 'amps')).status).toBe(1);
-    writeFileSync(join(root, 'polecheck.yaml'), 'rules:\n  nope: off\n');
+    writeFileSync(join(root, 'polecheck.yaml'), 'rules:\n  nope: none\n');
     const bad = run(['a.md'], join(root, 'docs', 'amps'));
     expect(bad.status).toBe(2);
     expect(bad.stderr).toMatch(/polecheck\.yaml:2:3: unknown rule `nope`/);
@@ -144,7 +144,7 @@ describe('waivers', () => {
   });
 });
 
-describe('--fix', () => {
+describe('--restate', () => {
   const stale = SPEC('  gbw: 20 MHz          # stale\n  dc_gain: "90 dB"\n  phase_margin: {min: 80 deg}');
 
   it('rewrites typical claims in the author\'s unit and precision, leaves bounds and params alone, keeps every other byte', () => {
@@ -153,24 +153,24 @@ describe('--fix', () => {
     // CRLF line ends and a byte-order mark must survive.
     const original = `\uFEFF${stale.replace(/\n/g, '\r\n')}`;
     writeFileSync(file, original);
-    const r = run(['--fix', 'a.md'], dir);
+    const r = run(['--restate', 'a.md'], dir);
     const fixed = readFileSync(file, 'utf8');
     expect(r.stderr).toMatch(/fixed 2 claims in a\.md \(gbw at line 16, dc_gain at line 17\)/);
     // GBW 23.4 MHz at two digits; DC gain 99.6 dB at the author's whole decibels.
     expect(fixed).toBe(original.replace('gbw: 20 MHz', 'gbw: 23 MHz').replace('dc_gain: "90 dB"', 'dc_gain: "100 dB"'));
-    // The failing bound is still reported: --fix does not touch bounds without --fix-bounds.
+    // The failing bound is still reported: --restate does not touch bounds without --restate-bounds.
     expect(r.status).toBe(1);
     expect(r.stdout).toMatch(/fails +phase_margin +stated ≥ 80 deg/);
     // A second run changes nothing.
-    const again = run(['--fix', 'a.md'], dir);
+    const again = run(['--restate', 'a.md'], dir);
     expect(again.stderr).not.toMatch(/fixed/);
     expect(readFileSync(file, 'utf8')).toBe(fixed);
   });
 
-  it('--fix-bounds moves a failing bound to what the model supports', () => {
+  it('--restate-bounds moves a failing bound to what the model supports', () => {
     const dir = tmp();
     writeFileSync(join(dir, 'a.md'), stale);
-    run(['--fix', '--fix-bounds', 'a.md'], dir);
+    run(['--restate', '--restate-bounds', 'a.md'], dir);
     expect(readFileSync(join(dir, 'a.md'), 'utf8')).toMatch(/phase_margin: \{min: 72 deg\}/);
   });
 
@@ -178,14 +178,14 @@ describe('--fix', () => {
     const dir = tmp();
     const text = `${SPEC('  dc_gain: 99.6 dB')}\n| Parameter | Typ | Unit |\n| --- | --- | --- |\n| GBW | 30 | MHz |\n| Phase margin | 50° | |\n`;
     writeFileSync(join(dir, 'a.md'), text);
-    run(['--fix', 'a.md'], dir);
+    run(['--restate', 'a.md'], dir);
     expect(readFileSync(join(dir, 'a.md'), 'utf8')).toBe(text.replace('| GBW | 30 | MHz |', '| GBW | 23 | MHz |').replace('| Phase margin | 50° |', '| Phase margin | 72° |'));
   });
 
-  it('--fix-dry-run prints a unified diff and writes nothing', () => {
+  it('--preview prints a unified diff and writes nothing', () => {
     const dir = tmp();
     writeFileSync(join(dir, 'a.md'), stale);
-    const r = run(['--fix-dry-run', 'a.md'], dir);
+    const r = run(['--preview', 'a.md'], dir);
     expect(r.stdout).toMatch(/^--- a\.md\n\+\+\+ a\.md\n@@ /m);
     expect(r.stdout).toMatch(/^-  gbw: 20 MHz {10}# stale$/m);
     expect(r.stdout).toMatch(/^\+  gbw: 23 MHz {10}# stale$/m);
@@ -293,8 +293,8 @@ describe('polecheck schema', () => {
 describe('polecheck schema config', () => {
   const validate = new Ajv({ allErrors: true, strict: false }).compile(configSchema());
   it('accepts what the reader accepts and rejects what it rejects', () => {
-    const good = ['rules:\n  second-pole-spacing: off\n  rhp-zero-spacing: {severity: warning, ratio: 8}\ntolerances:\n  frequency: 5%\n  gain: 0.5 dB\n  angle: 2 deg\ninclude: [specs/**/*.md]\n'];
-    const bad = ['rules:\n  phase-margn: off\n', 'rules:\n  phase-margin: loud\n', 'tolerances:\n  frequency: 5 dB\n', 'tolerence: {}\n', 'rules:\n  phase-margin: {ratio: 2}\n'];
+    const good = ['rules:\n  second-pole-spacing: none\n  rhp-zero-spacing: {level: warning, ratio: 8}\ntolerances:\n  frequency: 5%\n  gain: 0.5 dB\n  angle: 2 deg\ninclude: [specs/**/*.md]\n'];
+    const bad = ['rules:\n  phase-margn: none\n', 'rules:\n  phase-margin: loud\n', 'tolerances:\n  frequency: 5 dB\n', 'tolerence: {}\n', 'rules:\n  phase-margin: {ratio: 2}\n'];
     for (const text of good) {
       expect(validate(load(text)), text).toBe(true);
       expect(() => parseConfig('p.yaml', text)).not.toThrow();
