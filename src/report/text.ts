@@ -47,8 +47,11 @@ export function textReport(results: SheetResult[], p: Paint, opts: { errorsOnly?
       out.push(`  ${p.dim(path)}`);
       const shown = sheet.rows.filter((row) => row.outcome !== 'holds' && (!opts.errorsOnly || (row.outcome === 'fails' && !row.waived)));
       const name = (row: SheetRow) => (row.where ? `${row.key} (${printable(row.where)})` : row.key);
+      // A long table-row name does not widen the whole block: it stands on its
+      // own line and its figures follow beneath, in the block's columns.
+      const KEY_WIDTH = 28;
       const w = {
-        key: Math.max(0, ...shown.map((row) => [...name(row)].length)),
+        key: Math.max(0, ...shown.map((row) => [...name(row)].length).filter((n) => n <= KEY_WIDTH)),
         stated: Math.max(0, ...shown.map((row) => [...row.stated].length)),
         model: Math.max(0, ...shown.map((row) => [...row.model].length)),
         dev: Math.max(0, ...shown.map((row) => [...row.deviation].length)),
@@ -59,7 +62,9 @@ export function textReport(results: SheetResult[], p: Paint, opts: { errorsOnly?
       }
       for (const row of shown) {
         const mark = row.waived ? p.dim('waived') : row.outcome === 'fails' ? p.red('fails ') : p.yellow('thin  ');
-        out.push(`  ${mark} ${pad(name(row), w.key)}  stated ${pad(printable(row.stated), w.stated)}  model ${pad(row.model, w.model)}  ${pad(row.deviation, w.dev)}  ${p.dim(place(row.line, row.column))}`);
+        const figures = `stated ${pad(printable(row.stated), w.stated)}  model ${pad(row.model, w.model)}  ${pad(row.deviation, w.dev)}  ${p.dim(place(row.line, row.column))}`;
+        if ([...name(row)].length > KEY_WIDTH) out.push(`  ${mark} ${name(row)}`, `           ${pad('', w.key)}${figures}`);
+        else out.push(`  ${mark} ${pad(name(row), w.key)}  ${figures}`);
         if (row.at) out.push(`         ${p.dim(`worst at ${printable(row.at)}`)}`);
         if (row.waived) out.push(`         ${p.dim(`accepted: ${printable(row.waived)}`)}`);
         for (const f of r.findings.filter((x) => x.claim === row.key && x.line === row.line && x.column === row.column && x.verdict)) {
@@ -71,7 +76,15 @@ export function textReport(results: SheetResult[], p: Paint, opts: { errorsOnly?
       const holding = sheet.rows.filter((row) => row.outcome === 'holds');
       if (holding.length && !opts.errorsOnly) {
         // One line, wrapped at about 100 columns under its own indent.
-        const items = holding.map((row) => `${name(row)} ${row.model}`);
+        // A bound that holds shows the bound beside the figure (`overshoot 19% ≤ 25%`).
+        // A row stated as typical and bounded (Typ 19, Max 25) is one item.
+        const byRow = new Map<string, string>();
+        for (const row of holding) {
+          const at = `${name(row)}\u0000${row.model}\u0000${row.line}`;
+          const bound = /^[≥≤]/.test(row.stated) ? ` ${printable(row.stated)}` : '';
+          byRow.set(at, (byRow.get(at) ?? `${name(row)} ${row.model}`) + bound);
+        }
+        const items = [...byRow.values()];
         let current = '';
         const wrapped: string[] = [];
         for (const item of items) {
