@@ -7,6 +7,7 @@ import * as diff from 'diff';
 import * as schemaJson from './schema-json';
 import * as github from './report/github';
 import * as gitlab from './report/gitlab';
+import * as html from './report/html/writer';
 import * as json from './report/json';
 import * as review from './report/review';
 import * as sarif from './report/sarif';
@@ -20,7 +21,8 @@ export { type ReadFile, checkFile, discover, readSpecFile } from './cli/discover
 export { writeAtomically } from './cli/write';
 export type { MainIO } from './cli/run';
 
-const WRITERS: WriterModules = { text, json, sarif, github, gitlab, review, diff };
+// `report --html` lays out its pages once the plotting library is loaded: `await html.ready()` first.
+const WRITERS: WriterModules = { text, json, sarif, github, gitlab, review, html, diff };
 
 export function main(argv: string[], io: MainIO): number {
   const plan = prepare(argv, io);

@@ -15,6 +15,7 @@ export const HELP = `polecheck ${VERSION} — checks the claims of analog block 
 usage:
   polecheck [check] [options] [paths…]   check specs (files, or folders searched for *.md)
   polecheck report [options] [paths…]    every claim: claimed, exact, hand estimate, verdict (exit 0)
+  polecheck report --html DIR [paths…]   the review pages: DIR/index.html and one page per block, with plots
   polecheck rules                        list the rules with their default severity
   polecheck explain RULE                 print a rule's documentation
   polecheck schema [spec|config]         print the JSON Schema (draft-07) of the front matter or of polecheck.yaml
@@ -49,6 +50,8 @@ export interface Options {
   maxWarnings?: number;
   quiet: boolean;
   outputFile?: string;
+  /** `report --html DIR`: write the review pages into DIR. */
+  html?: string;
   maxBytes: number;
   config?: string;
   fix: boolean;
@@ -94,6 +97,9 @@ export function parseArgs(argv: string[]): Options {
       }
       case '--config':
         o.config = value(flag, inline);
+        break;
+      case '--html':
+        o.html = value(flag, inline);
         break;
       case '--fix':
         o.fix = true;
@@ -148,6 +154,8 @@ export function parseArgs(argv: string[]): Options {
         throw new UsageError(`unknown option '${a}' (see polecheck --help)`);
     }
   }
+  if (o.html !== undefined && o.command !== 'report') throw new UsageError('--html goes with report (polecheck report --html DIR [paths…])');
+  if (o.html !== undefined && o.format !== 'text') throw new UsageError('--html writes the review pages; it takes no --format');
   if (o.fixBounds && !o.fix && !o.fixDryRun) throw new UsageError('--fix-bounds goes with --fix or --fix-dry-run');
   return o;
 }
