@@ -93,7 +93,7 @@ export interface Derivation {
   method: string;
   how: string;
   notes: string[];
-  hand?: { value: string; how: string; notes: string[] };
+  hand?: { value: string; how: string; notes: string[]; where?: string };
 }
 
 export interface BlockPage {
@@ -220,8 +220,10 @@ export function pageData(r: FileResult): Omit<BlockPage, 'file'> | undefined {
   if (typeof step === 'string') page.stepWhy = step;
   else {
     const s: StepData = { ...step };
+    // Placed on the curve drawn, labelled with the engine's figure.
     const os = stepOvershoot(step.points);
-    if (os) s.overshoot = os;
+    const o = model.exact.overshoot;
+    if (os && o?.value != null && o.value > 0) s.overshoot = { value: o.value, t: os.t };
     const ts = model.exact.settling_time;
     if (ts?.value != null) {
       if (ts.method === 'transient') s.largeSettling = { t: ts.value, how: ts.notes?.[1] ?? ts.how };
@@ -247,10 +249,26 @@ export function pageData(r: FileResult): Omit<BlockPage, 'file'> | undefined {
     const f = model.exact[key];
     const h = model.hand[key];
     const d: Derivation = { key, claimed: spec.claims.some((c) => c.key === key), exact: figureText(f, kindOf(key)), method: f.method, how: f.how, notes: [...(f.notes ?? []), ...(f.reason && f.value !== null ? [f.reason] : [])] };
-    if (h) d.hand = { value: figureText(h, kindOf(key)), how: h.how, notes: [...(h.notes ?? [])] };
+    if (h) {
+      d.hand = { value: figureText(h, kindOf(key)), how: h.how, notes: [...(h.notes ?? [])] };
+      const where = substituted(h.how, spec.topology, model.values);
+      if (where) d.hand.where = where;
+    }
     return d;
   });
   return page;
+}
+
+/** The values of the params and conditions a formula names ("gm1 = 120 µS, cc = 800 fF"), as the model used them. */
+function substituted(how: string, topology: Model['topology'], values: Model['values']): string {
+  const out: string[] = [];
+  for (const k of [...topology.params, ...topology.conditions]) {
+    if (values[k.key] === undefined || out.some((x) => x.startsWith(`${k.key} = `))) continue;
+    const esc = k.key.replace(/[.*+?^${}()|[\]\\]/g, '\\$&');
+    const named = new RegExp(`(?<![\\w'])${esc}(?![\\w'])`).test(how) || (k.key === 'beta' && how.includes('β'));
+    if (named) out.push(`${k.key} = ${k.key === 'beta' ? +values[k.key].toPrecision(4) : formatQuantity(values[k.key], k.kind)}`);
+  }
+  return out.join(', ');
 }
 
 /** The largest y − 1 of the sampled step and its time (the figure itself is the engine's; this places its marker on the curve drawn). */
@@ -299,6 +317,7 @@ function bodeData(r: FileResult, model: Model, loop: boolean): BodeData | undefi
     }
   }
   const front = r.points?.[0];
+  const seen = new Set<string>();
   for (const e of r.spec!.claims) {
     if (!front?.claims.includes(e)) continue;
     for (const b of ['typ', 'min', 'max'] as const) {
@@ -306,6 +325,9 @@ function bodeData(r: FileResult, model: Model, loop: boolean): BodeData | undefi
       if (!q) continue;
       const label = `claimed ${e.key} ${b === 'typ' ? '' : b === 'min' ? '≥ ' : '≤ '}${q.quantity.written.text}`;
       const v = q.quantity.value;
+      // The same statement in the front matter and a table is drawn once.
+      if (seen.has(`${e.key} ${b === 'typ' ? '' : b} ${v}`)) continue;
+      seen.add(`${e.key} ${b === 'typ' ? '' : b} ${v}`);
       if (e.key === 'gbw') data.claimedGbw.push({ f: v, label });
       else if (e.key === 'phase_margin') data.claimedPm.push({ deg: v, label });
       else if (e.key === 'gain_margin') data.claimedGm.push({ db: v, label });

@@ -33,9 +33,10 @@ th{background:var(--panel);font-weight:600}
 tr.fails>td{background:var(--failbg)}
 td.fix{padding-left:24px;color:var(--fg);font-size:.95em}
 td.fix ul{margin:.2em 0;padding-left:1.2em}
+td.place{white-space:nowrap}
 .waiver{color:var(--muted);font-style:italic}
-figure{margin:8px 0 16px;break-inside:avoid;page-break-inside:avoid}
-figure svg{width:100%;height:auto;max-width:720px;overflow:visible}
+figure{margin:8px 0 16px;break-inside:avoid;page-break-inside:avoid;overflow-x:auto}
+figure svg{width:100%;height:auto;max-width:720px;min-width:560px;overflow:visible}
 figcaption{color:var(--muted);font-size:.88em;max-width:720px}
 .legend{list-style:none;padding:0;margin:4px 0;font-size:.88em;display:flex;flex-wrap:wrap;gap:4px 16px}
 .legend i{display:inline-block;width:22px;height:0;border-top:3px solid;vertical-align:middle;margin-right:6px}
@@ -53,7 +54,7 @@ dl.deriv dt{font-weight:600;margin-top:.8em}dl.deriv dd{margin:.1em 0 .1em 1.2em
 .method{color:var(--muted);font-size:.9em}
 nav{font-size:.9em;margin-bottom:8px}
 @page{size:auto;margin:14mm}
-@media print{body{font-size:10.5pt;background:#fff;color:#000}main{max-width:none;padding:0}nav{display:none}
+@media print{body{font-size:10.5pt;background:#fff;color:#000}main{max-width:none;padding:0}nav{display:none}figure{overflow:visible}figure svg{min-width:0}
 .scroll{overflow:visible}h2{break-after:avoid}tr{break-inside:avoid}figure svg{max-width:100%}}
 @media (max-width:640px){main{padding:10px}body{font-size:14px}th,td{padding:3px 4px}}
 `;
@@ -88,7 +89,7 @@ function claimsTable(p: BlockPage): string {
   const rows = p.rows.map((r) => {
     const waivers = r.waivers.map((w) => `<div class="waiver">waived: ${esc(w.reason)}${w.expires ? ` (until ${esc(w.expires)})` : ''}</div>`).join('');
     const main = `<tr class="${r.verdict}" data-claim="${esc(r.key)}" data-line="${r.line}" data-column="${r.column}" data-verdict="${r.verdict}" data-exact="${r.exactValue ?? ''}" data-unit="${esc(r.unit)}">
-<td><code>${esc(r.key)}</code></td><td>${esc(r.where)}</td><td>${esc(r.stated)}</td><td>${esc(r.exact)}</td><td>${esc(r.worst)}</td><td>${esc(r.hand)}</td><td>${esc(r.handError)}</td><td class="v-${r.verdict}">${verdictWord[r.verdict]}${waivers}</td><td><code>${esc(p.path)}:${r.line}</code></td></tr>`;
+<td><code>${esc(r.key)}</code></td><td>${esc(r.where)}</td><td>${esc(r.stated)}</td><td>${esc(r.exact)}</td><td>${esc(r.worst)}</td><td>${esc(r.hand)}</td><td>${esc(r.handError)}</td><td class="v-${r.verdict}">${verdictWord[r.verdict]}${waivers}</td><td class="place"><code>${esc(p.path)}:${r.line}</code></td></tr>`;
     const fixes = r.fixes.length ? `\n<tr class="fixes"><td class="fix" colspan="9">What would make it hold:<ul>${r.fixes.map((f) => `<li>${esc(f)}</li>`).join('')}</ul></td></tr>` : '';
     return main + fixes;
   });
@@ -138,7 +139,7 @@ ${closedNote}`;
 function derivations(p: BlockPage): string {
   const items = p.derivations.map((d) => {
     const notes = d.notes.map((n) => `<dd class="method">note: ${esc(n)}</dd>`).join('');
-    const hand = d.hand ? `<dd>Hand estimate: <strong>${esc(d.hand.value)}</strong> — ${esc(d.hand.how)}</dd>${d.hand.notes.map((n) => `<dd class="method">note: ${esc(n)}</dd>`).join('')}` : '';
+    const hand = d.hand ? `<dd>Hand estimate: <strong>${esc(d.hand.value)}</strong> — ${esc(d.hand.how)}${d.hand.where ? `, with ${esc(d.hand.where)}` : ''}</dd>${d.hand.notes.map((n) => `<dd class="method">note: ${esc(n)}</dd>`).join('')}` : '';
     return `<dt id="d-${esc(d.key)}"><code>${esc(d.key)}</code>${d.claimed ? '' : ' <span class="method">(not claimed)</span>'} = ${esc(d.exact)}</dt><dd>${esc(d.how)} <span class="method">[${esc(d.method)}]</span></dd>${notes}${hand}`;
   });
   return `<h2 id="derivation">Derivation of every figure</h2><dl class="deriv">${items.join('\n')}</dl>`;
@@ -161,7 +162,7 @@ export function blockHtml(p: BlockPage, plotter: Plotter): string {
   parts.push(bodeSection(p, plotter));
   const pz = plotter.poleZero(p);
   parts.push(`<h2 id="roots">Poles and zeros</h2><div class="pz">${pz ? `<figure>${pz}<figcaption>× poles of A(s), ○ zeros of A(s)${p.closedPoles.length ? ', □ closed-loop poles' : ''}; symmetric-log axes.</figcaption></figure>` : ''}<div class="roots scroll">${rootsTable(p)}</div></div>`);
-  if (p.step) parts.push(`<h2 id="step">Step response</h2><figure>${plotter.step(p.step, p.block)}<figcaption>Small-signal step of the closed loop; dashed: the settling band.${p.step.largeSettling ? ` ${esc(p.step.largeSettling.how)}.` : ''}</figcaption></figure>`);
+  if (p.step) parts.push(`<h2 id="step">Step response</h2><figure>${plotter.step(p.step, p.block)}<figcaption>Small-signal step of the closed loop; dashed: the settling band.${p.step.largeSettling ? ` ${esc(p.step.largeSettling.how)}.` : ''}</figcaption></figure><figure>${plotter.settling(p.step, p.block)}<figcaption>The same response as its distance from the final value, on a log axis: the settling band and the last exit from it.</figcaption></figure>`);
   else if (p.stepWhy) parts.push(`<h2 id="step">Step response</h2><p>No step response: ${esc(p.stepWhy)}.</p>`);
   if (p.noise) parts.push(`<h2 id="noise">Noise</h2><figure>${plotter.noise(p.noise, p.block)}<figcaption>Input-referred voltage noise density.</figcaption></figure>`);
   parts.push(derivations(p));

@@ -15,7 +15,15 @@ type Markish = Parameters<PlotLib['plot']>[0] extends infer O ? (O extends { mar
 export const WIDTH = 720;
 const HEIGHT = 250;
 
-const si = (kind: Kind) => (v: number): string => (v === 0 ? '0' : formatQuantity(v, kind, 1).replace('-', '−'));
+/** A tick label with an SI prefix and no trailing zeros: 20 ns, 1.5 µs, −10 MHz. */
+export const si = (kind: Kind) => (v: number): string => (v === 0 ? '0' : formatQuantity(v, kind, 3).replace(/(\.\d*?)0+(?= )/, '$1').replace(/\.(?= )/, '').replace('-', '−'));
+
+/** Decades, with 2× and 5× between them when the span is two decades or less. */
+function logTicks(from: number, to: number): number[] {
+  const d = decades(from, to);
+  if (d.length > 3) return d;
+  return d.flatMap((v) => [v, 2 * v, 5 * v]).filter((v) => v >= from * (1 - 1e-9) && v <= to * (1 + 1e-9));
+}
 
 /** Powers of ten from `from` to `to` (both powers of ten, or rounded out to them). */
 export function decades(from: number, to: number): number[] {
@@ -35,15 +43,37 @@ export function niceTicks(lo: number, hi: number, count: number): number[] {
   return out;
 }
 
+/** Multiples of 45° (of 90° beyond 360° of span) from lo to hi. */
+function angleTicks(lo: number, hi: number): number[] {
+  const step = hi - lo > 360 ? 90 : 45;
+  const out: number[] = [];
+  for (let d = Math.ceil(lo / step) * step; d <= hi; d += step) out.push(d);
+  return out;
+}
+
 /** Rounds every number inside attribute values to 2 decimals: stable bytes, smaller files. */
 export function roundSvg(svg: string): string {
   return svg.replace(/="([^"]*)"/g, (_, v: string) => `="${v.replace(/-?\d+\.\d{3,}(?:e-?\d+)?/g, (n) => String(+(+n).toFixed(2)))}"`);
 }
 
+/**
+ * Plot numbers the ids of its markers and clip paths with a counter global to
+ * the process: renumbered here per plot and prefixed with the plot's id, so a
+ * page reads the same however many were drawn before it.
+ */
+export function localIds(svg: string, id: string): string {
+  const seen = new Map<string, string>();
+  return svg.replace(/plot-([a-z]+)-(\d+)/g, (m, kind: string) => {
+    let local = seen.get(m);
+    if (!local) seen.set(m, (local = `${id}-${kind}-${seen.size + 1}`));
+    return local;
+  });
+}
+
 /** An SVG with its text alternative: <title> and <desc> first, named by aria-labelledby. */
 function accessible(svg: string, id: string, title: string, desc: string): string {
   const esc = (s: string) => s.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;').replace(/"/g, '&quot;');
-  return svg
+  return localIds(svg, id)
     .replace(/^<svg /, `<svg id="${id}" role="img" aria-labelledby="${id}-title ${id}-desc" `)
     .replace(/ aria-label="[^"]*"(?= [^>]*>)/, '')
     .replace(/^(<svg[^>]*>)/, `$1<title id="${id}-title">${esc(title)}</title><desc id="${id}-desc">${esc(desc)}</desc>`);
@@ -79,14 +109,12 @@ export class Plotter {
     for (const c of curves) magMarks.push(P.line(c.pts.filter(clipDb), { x: 'f', y: 'db', className: c.cls, strokeWidth: 1.75 }));
     const fcDesc: string[] = [];
     if (b.unity !== undefined) magMarks.push(P.dot([{ f: b.unity, db: 0 }], { x: 'f', y: 'db', r: 4, className: 'mk-unity', title: () => `A's unity-gain frequency ${si('frequency')(b.unity!)}` }));
-    for (const g of b.claimedGbw) {
-      magMarks.push(P.ruleX([g.f], { className: 'mk-claim', strokeDasharray: '4,3' }));
-      magMarks.push(P.text([{ f: g.f, db: dbHi }], { x: 'f', y: 'db', text: () => g.label, textAnchor: 'start', dx: 4, dy: 6, className: 'mk-claim-text' }));
+    // Claim labels stacked from the top, one line each, so that close claims stay legible.
+    for (const [i, g] of [...b.claimedGbw, ...b.claimedBw].entries()) {
+      const bw = i >= b.claimedGbw.length;
+      magMarks.push(P.ruleX([g.f], { className: 'mk-claim', strokeDasharray: bw ? '2,3' : '4,3' }));
+      magMarks.push(P.text([{ f: g.f, db: dbHi }], { x: 'f', y: 'db', text: () => g.label, textAnchor: 'end', dx: -4, dy: 6 + 13 * i, className: 'mk-claim-text' }));
       fcDesc.push(`${g.label} is drawn as a dashed vertical line`);
-    }
-    for (const g of b.claimedBw) {
-      magMarks.push(P.ruleX([g.f], { className: 'mk-claim', strokeDasharray: '2,3' }));
-      magMarks.push(P.text([{ f: g.f, db: dbHi }], { x: 'f', y: 'db', text: () => g.label, textAnchor: 'start', dx: 4, dy: 20, className: 'mk-claim-text' }));
     }
     if (b.crossover) {
       magMarks.push(P.dot([{ f: b.crossover.f, db: 0 }], { x: 'f', y: 'db', r: 4.5, className: 'mk-crossover', title: () => `loop crossover ${formatQuantity(b.crossover!.f, 'frequency')}` }));
@@ -131,13 +159,13 @@ export class Plotter {
       for (const [i, c] of b.claimedPm.entries()) {
         const f2 = f * 1.3 ** (i + 1);
         phMarks.push(P.link([{ f: f2, a: ref, b: ref + c.deg }], { x1: 'f', x2: 'f', y1: 'a', y2: 'b', className: 'mk-claim', strokeWidth: 1.5, markerStart: 'tick-x', markerEnd: 'tick-x' }));
-        phMarks.push(P.text([{ f: f2, deg: ref + c.deg }], { x: 'f', y: 'deg', text: () => c.label, textAnchor: 'start', dx: 4, dy: -6, className: 'mk-claim-text' }));
+        phMarks.push(P.text([{ f: f2, deg: ref + c.deg }], { x: 'f', y: 'deg', text: () => c.label, textAnchor: 'start', dx: 6 + 4 * i, dy: -6 - 13 * i, className: 'mk-claim-text' }));
         pmDesc += ` The ${c.label} is drawn as a bracket beside it.`;
       }
     }
     const phase = this.draw(`bode-phase`, `Bode phase of ${block}`, `Phase in degrees of A(jω) (the loop gain has the same phase)${b.closed ? ' and of the closed loop' : ''}, on the same frequency axis. ${pmDesc}`.trim(), {
       x,
-      y: { domain: [degLo, degHi], ticks: niceTicks(degLo, degHi, 8).filter((d) => d % 45 === 0), label: '↑ Phase (°)', grid: true },
+      y: { domain: [degLo, degHi], ticks: angleTicks(degLo, degHi), tickFormat: (d: number) => `${d}°`.replace('-', '−'), label: '↑ Phase (°)', grid: true },
       marks: phMarks as Markish,
     });
     return { magnitude, phase };
@@ -207,6 +235,26 @@ export class Plotter {
     });
   }
 
+  /** The settling error |y(t)/y(∞) − 1| on a log axis: the band and the last exit from it, readable at any band. */
+  settling(s: StepData, block: string): string {
+    const P = this.libs.Plot;
+    const end = s.points[s.points.length - 1].t;
+    const floor = s.band / 100;
+    const pts = s.points.map((p) => ({ t: p.t, e: Math.max(Math.abs(p.y - 1), floor) }));
+    const hi = 10 ** Math.ceil(Math.log10(Math.max(...pts.map((p) => p.e))) - 1e-9);
+    const lo = 10 ** Math.floor(Math.log10(floor));
+    const marks: unknown[] = [P.ruleY([s.band], { className: 'mk-band', strokeDasharray: '3,3' }), P.line(pts, { x: 't', y: 'e', className: 'c-step', strokeWidth: 1.5 })];
+    marks.push(P.text([{ t: end, e: s.band }], { x: 't', y: 'e', text: () => `band ±${+(100 * s.band).toPrecision(3)} %`, textAnchor: 'end', dy: -7, className: 'mk-text' }));
+    if (s.settling !== undefined && s.settling <= end) marks.push(P.ruleX([s.settling], { className: 'mk-margin' }));
+    const pct = (v: number) => `${+(100 * v).toPrecision(3)} %`;
+    return this.draw('settling', `Settling error of ${block}`, `The distance from the final value, |y(t)/y(∞) − 1|, on a log axis from ${pct(lo)} to ${pct(hi)}, with the settling band ±${pct(s.band)}${s.settling !== undefined ? ` and the settling time ${formatQuantity(s.settling, 'time')}` : ''}; the dips are the zero crossings of the ringing.`, {
+      height: 200,
+      x: { domain: [0, end], ticks: niceTicks(0, end, 8), tickFormat: si('time'), label: 'Time after the step (s) →', grid: true },
+      y: { type: 'log', domain: [lo, hi], ticks: decades(lo, hi), tickFormat: pct, label: '↑ |error|, % of final value', grid: true },
+      marks: marks as Markish,
+    });
+  }
+
   /** Input-referred noise density over frequency, log-log, with the stated densities marked. */
   noise(n: NonNullable<BlockPage['noise']>, block: string): string {
     const P = this.libs.Plot;
@@ -222,7 +270,7 @@ export class Plotter {
     }
     return this.draw('noise', `Input-referred noise density of ${block}`, `Input-referred voltage noise density in V/√Hz over frequency, log-log, from every noise source of the model${n.claimed.length ? `; stated: ${n.claimed.map((c) => c.label).join(', ')} (diamonds)` : ''}.`, {
       x: { type: 'log', domain: [from, to], ticks: decades(from, to), tickFormat: si('frequency'), label: 'Frequency (Hz) →', grid: true },
-      y: { type: 'log', domain: [lo, hi], ticks: decades(lo, hi), tickFormat: si('noise'), label: '↑ Density (V/√Hz)', grid: true },
+      y: { type: 'log', domain: [lo, hi], ticks: logTicks(lo, hi), tickFormat: si('noise'), label: '↑ Density (V/√Hz)', grid: true },
       marks: marks as Markish,
     });
   }
