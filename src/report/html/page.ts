@@ -56,7 +56,10 @@ nav{font-size:.9em;margin-bottom:8px}
 @page{size:auto;margin:14mm}
 @media print{body{font-size:10.5pt;background:#fff;color:#000}main{max-width:none;padding:0}nav{display:none}figure{overflow:visible}figure svg{min-width:0}
 .scroll{overflow:visible}h2{break-after:avoid}tr{break-inside:avoid}figure svg{max-width:100%}}
-@media (max-width:640px){main{padding:10px}body{font-size:14px}th,td{padding:3px 4px}}
+@media (max-width:640px){main{padding:10px}body{font-size:14px}th,td{padding:3px 4px}
+#claims thead{display:none}#claims tr{display:block;border-bottom:1px solid var(--line);padding:4px 0}
+#claims td{display:block;border:none;padding:1px 4px}#claims td[data-label]::before{content:attr(data-label) ": ";font-weight:600;color:var(--muted)}
+#claims td.fix{padding-left:12px}td.place{white-space:normal}}
 `;
 
 function shell(title: string, body: string): string {
@@ -86,10 +89,12 @@ const counts = (c: BlockPage['counts']): string =>
 function claimsTable(p: BlockPage): string {
   if (!p.rows.length) return '<p>The block states no claims.</p>';
   const head = ['Claim', 'Stated in', 'Stated', 'Exact model', 'Worst corner', 'Hand estimate', 'Hand error', 'Verdict', 'Place'];
+  // Each cell names its column, for the narrow layout where a row is a card.
+  const cell = (i: number, html: string, cls = '') => `<td data-label="${head[i]}"${cls ? ` class="${cls}"` : ''}>${html}</td>`;
   const rows = p.rows.map((r) => {
     const waivers = r.waivers.map((w) => `<div class="waiver">waived: ${esc(w.reason)}${w.expires ? ` (until ${esc(w.expires)})` : ''}</div>`).join('');
     const main = `<tr class="${r.verdict}" data-claim="${esc(r.key)}" data-line="${r.line}" data-column="${r.column}" data-verdict="${r.verdict}" data-exact="${r.exactValue ?? ''}" data-unit="${esc(r.unit)}">
-<td><code>${esc(r.key)}</code></td><td>${esc(r.where)}</td><td>${esc(r.stated)}</td><td>${esc(r.exact)}</td><td>${esc(r.worst)}</td><td>${esc(r.hand)}</td><td>${esc(r.handError)}</td><td class="v-${r.verdict}">${verdictWord[r.verdict]}${waivers}</td><td class="place"><code>${esc(p.path)}:${r.line}</code></td></tr>`;
+${cell(0, `<code>${esc(r.key)}</code>`)}${cell(1, esc(r.where))}${cell(2, esc(r.stated))}${cell(3, esc(r.exact))}${cell(4, esc(r.worst))}${cell(5, esc(r.hand))}${cell(6, esc(r.handError))}${cell(7, `${verdictWord[r.verdict]}${waivers}`, `v-${r.verdict}`)}${cell(8, `<code>${esc(p.path)}:${r.line}</code>`, 'place')}</tr>`;
     const fixes = r.fixes.length ? `\n<tr class="fixes"><td class="fix" colspan="9">What would make it hold:<ul>${r.fixes.map((f) => `<li>${esc(f)}</li>`).join('')}</ul></td></tr>` : '';
     return main + fixes;
   });
