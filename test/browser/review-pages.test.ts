@@ -90,11 +90,24 @@ interface Axis {
 
 /** The tick labels of one axis of a plot, with their positions. */
 async function axis(page: Page, plot: string, which: 'x' | 'y'): Promise<Axis> {
-  return page.$$eval(`svg#${plot} g[aria-label="${which}-axis tick label"] text`, (texts, w) =>
-    texts.map((t) => {
-      const m = /translate\(([-\d.e]+),([-\d.e]+)\)/.exec(t.getAttribute('transform') ?? '')!;
-      return { label: t.textContent ?? '', at: Number(m[w === 'x' ? 1 : 2]) };
-    }), which).then((ts) => ({ labels: ts.map((t) => t.label), at: ts.map((t) => t.at) }));
+  return (await axes(page, plot))[plot][which];
+}
+
+/** Every plot's axes (tick labels with their positions, and the axis titles), read in one round trip. */
+async function axes(page: Page, only?: string): Promise<Record<string, { x: Axis; y: Axis; titles: string[] }>> {
+  return page.$$eval(
+    only ? `svg#${only}` : 'svg[role="img"]',
+    (svgs) => {
+      const read = (svg: (typeof svgs)[number], which: string) => {
+        const ts = [...svg.querySelectorAll(`g[aria-label="${which}-axis tick label"] text`)].map((t) => {
+          const m = /translate\(([-\d.e]+),([-\d.e]+)\)/.exec(t.getAttribute('transform') ?? '')!;
+          return { label: t.textContent ?? '', at: Number(m[which === 'x' ? 1 : 2]) };
+        });
+        return { labels: ts.map((t) => t.label), at: ts.map((t) => t.at) };
+      };
+      return Object.fromEntries(svgs.map((svg) => [svg.id, { x: read(svg, 'x'), y: read(svg, 'y'), titles: [...svg.querySelectorAll('g[aria-label$="-axis label"] text')].map((t) => t.textContent ?? '') }]));
+    },
+  );
 }
 
 const PREFIX: Record<string, number> = { p: 1e-12, n: 1e-9, µ: 1e-6, m: 1e-3, '': 1, k: 1e3, M: 1e6, G: 1e9, T: 1e12 };
@@ -140,15 +153,12 @@ describe('the review pages in chromium', () => {
   it('renders every block page without errors, every plot with its axes and tick labels', async () => {
     for (const b of blockPages()) {
       const { page, errors } = await open(b.file);
-      const plots = await page.$$eval('svg[role="img"]', (ss) => ss.map((s) => s.id));
-      expect(plots, b.block).toEqual(expect.arrayContaining(['bode-mag', 'bode-phase', 'pz-map']));
-      for (const id of plots) {
-        const x = await axis(page, id, 'x');
-        const y = await axis(page, id, 'y');
+      const plots = await axes(page);
+      expect(Object.keys(plots), b.block).toEqual(expect.arrayContaining(['bode-mag', 'bode-phase', 'pz-map']));
+      for (const [id, { x, y, titles }] of Object.entries(plots)) {
         expect(x.labels.length, `${b.block} ${id} x`).toBeGreaterThanOrEqual(3);
         expect(y.labels.length, `${b.block} ${id} y`).toBeGreaterThanOrEqual(2);
         // The axis titles name their units.
-        const titles = await page.$$eval(`svg#${id} g[aria-label$="-axis label"] text`, (ts) => ts.map((t) => t.textContent));
         expect(titles.join(' '), `${b.block} ${id}`).toMatch(/\((Hz|dB|°|s|V\/√Hz)\)|% of final value/);
         if (id.startsWith('bode') || id === 'noise') logAxis(x);
         if (id === 'bode-phase') for (const l of y.labels) expect(Math.abs(Number(l.replace('−', '-').replace('°', '')) % 45)).toBe(0);

@@ -13,7 +13,7 @@ const CSS = `
 :root{color-scheme:light dark;--bg:#fff;--fg:#1b1f24;--muted:#57606a;--line:#d0d7de;--panel:#f6f8fa;
 --open:#0b63c4;--loop:#7a3fc2;--closed:#0f7b4f;--corner:#b35c00;--step:#0b63c4;--noise:#0f7b4f;
 --mark:#c2185b;--claim:#8a5a00;--fails:#b42318;--thin:#8a5a00;--holds:#1a7f37;--failbg:#fdecea}
-@media (prefers-color-scheme:dark){:root{--bg:#0f1216;--fg:#e6edf3;--muted:#9aa5b1;--line:#30363d;--panel:#161b22;
+@media screen and (prefers-color-scheme:dark){:root{--bg:#0f1216;--fg:#e6edf3;--muted:#9aa5b1;--line:#30363d;--panel:#161b22;
 --open:#58a6ff;--loop:#c297ff;--closed:#3fcf8e;--corner:#f0a04b;--step:#58a6ff;--noise:#3fcf8e;
 --mark:#ff7eb6;--claim:#e3b341;--fails:#ff7b72;--thin:#e3b341;--holds:#3fb950;--failbg:#2d1214}}
 *{box-sizing:border-box}

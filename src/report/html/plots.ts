@@ -180,8 +180,11 @@ export class Plotter {
     const lo = 10 ** Math.floor(Math.log10(Math.min(...sizes)));
     const hi = 10 ** Math.ceil(Math.log10(Math.max(...sizes)));
     const constant = lo / 10;
-    const ticks = [...decades(lo, hi).reverse().map((v) => -v), 0, ...decades(lo, hi)];
-    const sparse = ticks.length > 11 ? ticks.filter((v) => v === 0 || Math.round(Math.log10(Math.abs(v)) - Math.log10(lo)) % 2 === 0) : ticks;
+    // Every k-th decade, so that at most four labels sit on each side of the origin.
+    const every = decades(lo, hi);
+    const k = Math.ceil(every.length / 4);
+    const side = every.filter((_, i) => i % k === 0);
+    const sparse = [...[...side].reverse().map((v) => -v), 0, ...side];
     const axis = (label: string) => ({ type: 'symlog', constant, domain: [-hi, hi], ticks: sparse, tickFormat: si('frequency'), label, grid: true });
     const marks: unknown[] = [P.ruleX([0], { className: 'm-zero' }), P.ruleY([0], { className: 'm-zero' })];
     const put = (rows: RootRow[], cls: string, symbol: string, name: string) =>
@@ -192,7 +195,7 @@ export class Plotter {
     const desc = `Poles (×) and zeros (○) of A(s)${page.closedPoles.length ? ' and closed-loop poles (□)' : ''} in the s-plane divided by 2π, in Hz, on symmetric-log axes (linear within ±${formatQuantity(constant, 'frequency')}); the left half-plane is stable. The table beside lists every root.`;
     return this.draw('pz-map', `Pole-zero map of ${page.block}`, desc, {
       height: 380,
-      width: 560,
+      width: 600,
       x: axis('Real part σ/2π (Hz) →'),
       y: axis('↑ Imaginary part ω/2π (Hz)'),
       marks: marks as Markish,
