@@ -13,7 +13,7 @@ import type { Paint } from './style';
 import { CAUTION } from './summary';
 import { claimResults } from '../results';
 
-const claimedText = (c: ClaimEntry | undefined): string => {
+export const claimedText = (c: ClaimEntry | undefined): string => {
   if (!c) return '—';
   const parts: string[] = [];
   if (c.typ) parts.push(c.plain ? c.typ.quantity.written.text : `typ ${c.typ.quantity.written.text}`);

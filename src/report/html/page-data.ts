@@ -14,9 +14,8 @@ import { inLoop } from '../../places';
 import { formatQuantity } from '../../quantity';
 import type { Kind } from '../../quantity/units';
 import { claimResults } from '../../results';
-import type { ClaimEntry } from '../../spec/types';
 import { INPUT_NOISE_AT } from '../../topologies/common';
-import { handError } from '../review';
+import { claimedText, handError } from '../review';
 
 export interface ClaimRow {
   key: string;
@@ -128,14 +127,6 @@ const rootRow = (r: Root): RootRow => {
   const row: RootRow = { re: r.re / TWO_PI, im: r.im / TWO_PI, hz: rootHz(r) };
   if (r.im !== 0) row.q = Math.hypot(r.re, r.im) / (2 * Math.abs(r.re));
   return row;
-};
-
-const claimedText = (c: ClaimEntry): string => {
-  const parts: string[] = [];
-  if (c.typ) parts.push(c.plain ? c.typ.quantity.written.text : `typ ${c.typ.quantity.written.text}`);
-  if (c.min) parts.push(`≥ ${c.min.quantity.written.text}`);
-  if (c.max) parts.push(`≤ ${c.max.quantity.written.text}`);
-  return parts.join(', ');
 };
 
 const KIND_OF_UNIT: Record<string, Kind> = { Hz: 'frequency', dB: 'gain', deg: 'angle', 'V/s': 'slew', s: 'time', 'V/√Hz': 'noise', V: 'voltage', A: 'current', W: 'power' };
