@@ -93,7 +93,8 @@ const asResults = (results: Checked[]): FileResult[] => results;
 const quietly = (results: FileResult[], quiet: boolean): FileResult[] =>
   quiet ? results.map((r) => ({ ...r, findings: r.findings.filter((f) => f.severity === 'error' && !f.waived) })) : results;
 
-export function outputFrom(o: Options, color: boolean, m: WriterModules): Output {
+/** `cwd`: the folder relative paths of the output are taken from (the command's working folder). */
+export function outputFrom(o: Options, color: boolean, m: WriterModules, cwd = process.cwd()): Output {
   const p = paint(color);
   const need = <K extends keyof WriterModules>(k: K): NonNullable<WriterModules[K]> => {
     const mod = m[k];
@@ -114,7 +115,7 @@ export function outputFrom(o: Options, color: boolean, m: WriterModules): Output
       out.render = (results) => {
         const site = html.renderSite(results.map((r) => r.section ?? ''));
         try {
-          html.writeSite(dir, site);
+          html.writeSite(resolve(cwd, dir), site);
         } catch (err) {
           throw new OutputError(`cannot write the review pages to ${dir}: ${(err as Error).message}`);
         }

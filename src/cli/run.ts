@@ -198,7 +198,7 @@ export async function run(argv: string[], io: MainIO, opts: RunOptions = {}): Pr
   const plan = prepare(argv, io);
   if (typeof plan === 'number') return plan;
   if (plan.kind === 'schema') return printSchema(plan.which, io, await import('../schema-json'));
-  const output = outputFrom(plan.o, plan.color, await loadWriters(plan.o));
+  const output = outputFrom(plan.o, plan.color, await loadWriters(plan.o), plan.cwd);
   const workers = opts.workerEntry ? workerCount(plan.files.length, io.env, () => availableParallelism()) : 0;
   const outcomes = workers > 0 && opts.workerEntry ? await checkInWorkers(plan, output.section, { entry: opts.workerEntry, workers, mainChecks: false, batch: batchSize(plan.files.length, workers), maxOldGenerationSizeMb: WORKER_HEAP_MB }) : checkInThread(plan, output.section);
   return finish(plan, outcomes, output, io);

@@ -13,7 +13,7 @@
 // saved under test-artifacts/ (git-ignored; CI keeps them as artifacts).
 
 import { execFileSync, spawnSync } from 'node:child_process';
-import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync, symlinkSync } from 'node:fs';
+import { existsSync, mkdirSync, mkdtempSync, readFileSync, readdirSync, renameSync, rmSync, symlinkSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
@@ -207,6 +207,31 @@ describe('the review pages in chromium', () => {
       // The restatement is printed under the failing claim.
       if (judged.length) expect(await page.locator('tr.fixes').count(), b.block).toBeGreaterThan(0);
       await page.close();
+    }
+  });
+
+  it('gets the same bytes from worker threads (the built worker renders the page data)', { timeout: 120_000 }, () => {
+    const again = join(scratch, 'site-workers');
+    const r = spawnSync(process.execPath, [join(scratch, 'dist', 'polecheck.js'), 'report', '--html', again, 'specs'], { cwd: ROOT, env: { ...process.env, NO_COLOR: '1', POLECHECK_WORKERS: '2' }, encoding: 'utf8' });
+    expect(r.status, r.stderr).toBe(0);
+    const names = readdirSync(site).sort();
+    expect(readdirSync(again).sort()).toEqual(names);
+    for (const n of names) expect(readFileSync(join(again, n), 'utf8') === readFileSync(join(site, n), 'utf8'), n).toBe(true);
+  });
+
+  it('leaves the plotting library to report --html: check runs without it', () => {
+    const libs = join(scratch, 'dist', 'html-libs.cjs');
+    renameSync(libs, `${libs}.away`);
+    try {
+      const r = spawnSync(process.execPath, [join(scratch, 'dist', 'polecheck.js'), 'specs'], { cwd: ROOT, env: { ...process.env, NO_COLOR: '1' }, encoding: 'utf8' });
+      // The demo has failing claims: exit 1 with the tally, as always.
+      expect(r.status, r.stderr).toBe(1);
+      expect(r.stdout).toMatch(/11 blocks, \d+ claims: \d+ fail/);
+      const html = spawnSync(process.execPath, [join(scratch, 'dist', 'polecheck.js'), 'report', '--html', join(scratch, 'nowhere'), 'specs'], { cwd: ROOT, encoding: 'utf8' });
+      expect(html.status).not.toBe(0);
+      expect(html.stderr).toMatch(/html-libs\.cjs/);
+    } finally {
+      renameSync(`${libs}.away`, libs);
     }
   });
 
