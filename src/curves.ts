@@ -7,6 +7,7 @@
 // computed from and a reporter computes nothing.
 
 import type { NetworkAnalysis } from './engine/analyze';
+import { settlingTime } from './engine/closed-loop';
 import { rootHz } from './engine/roots';
 import { closedLoopView } from './closed-loop-figures';
 import type { Model } from './model';
@@ -27,6 +28,8 @@ export interface StepCurve {
   points: Array<{ t: number; y: number }>;
   /** The settling band, a fraction of the final value. */
   band: number;
+  /** The small-signal settling time into the band (the last exit, by the engine's root search), when it resolves. */
+  settling?: number;
 }
 
 /** Most decades a frequency plot spans: roots beyond are listed in the table, not drawn. */
@@ -111,21 +114,22 @@ export function closedLoopCurve(m: Model, freqs: number[]): BodePoint[] | string
 /**
  * y(t)/y(∞) of the closed loop's small-signal step response (the sum of its
  * modes), over a span long enough to see it settle into its band: twice the
- * time its envelope needs to fall below the band.
+ * time its envelope needs to fall below the band, and at least `minEnd`.
  */
-export function stepCurve(m: Model, samples = 240): StepCurve | string {
+export function stepCurve(m: Model, samples = 240, minEnd = 0): StepCurve | string {
   const view = closedLoopView(m);
   if (!view) return 'the topology is not used in a closed loop';
   const r = view.response;
   if (typeof r === 'string') return r;
-  const end = 2 * r.step.envelopeBelow(view.band);
+  const end = Math.max(2 * r.step.envelopeBelow(view.band), minEnd);
   if (!(end > 0 && Number.isFinite(end))) return 'the step response could not be followed to its end';
   const points: StepCurve['points'] = [];
   for (let i = 0; i <= samples; i++) {
     const t = (end * i) / samples;
     points.push({ t, y: 1 + r.step.value(t) });
   }
-  return { points, band: view.band };
+  const settled = settlingTime(r.step, view.band);
+  return settled ? { points, band: view.band, settling: settled.t } : { points, band: view.band };
 }
 
 /** The input-referred noise density (V/√Hz) at each frequency, or undefined where the topology states no noise. */

@@ -207,7 +207,10 @@ export function pageData(r: FileResult): Omit<BlockPage, 'file'> | undefined {
     notes: r.findings.filter((f) => f.claim === null || !spec.topology.claims.some((c) => c.key === f.claim)).map((f) => `${f.severity} ${r.path}:${f.line}:${f.column} ${f.message} (${f.rule})`),
   };
   page.bode = bodeData(r, model, loop);
-  const step = loop ? stepCurve(model) : 'the block is not used in a closed loop';
+  // A large-signal settling time (a stated step, slewing first) is drawn on the same axis: the span reaches past it.
+  const ts = loop ? model.exact.settling_time : undefined;
+  const large = ts?.value != null && ts.method === 'transient' ? ts.value : 0;
+  const step = loop ? stepCurve(model, 240, 1.15 * large) : 'the block is not used in a closed loop';
   if (typeof step === 'string') page.stepWhy = step;
   else {
     const s: StepData = { ...step };
@@ -215,11 +218,7 @@ export function pageData(r: FileResult): Omit<BlockPage, 'file'> | undefined {
     const os = stepOvershoot(step.points);
     const o = model.exact.overshoot;
     if (os && o?.value != null && o.value > 0) s.overshoot = { value: o.value, t: os.t };
-    const ts = model.exact.settling_time;
-    if (ts?.value != null) {
-      if (ts.method === 'transient') s.largeSettling = { t: ts.value, how: ts.notes?.[1] ?? ts.how };
-      else s.settling = ts.value;
-    }
+    if (large) s.largeSettling = { t: large, how: ts!.notes?.[1] ?? ts!.how };
     page.step = s;
   }
   if (page.bode) {

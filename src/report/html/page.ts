@@ -123,7 +123,7 @@ const legendItem = (cls: string, text: string, dash = ''): string => `<li><i sty
 
 function bodeSection(p: BlockPage, plotter: Plotter): string {
   const b = p.bode;
-  if (!b) return '<h2 id="bode">Frequency response</h2><p>The response could not be evaluated.</p>';
+  if (!b) return '<h2 id="s-bode">Frequency response</h2><p>The response could not be evaluated.</p>';
   const { magnitude, phase } = plotter.bode(b, p.block);
   const legend = [
     legendItem('open', 'A(jω), open loop'),
@@ -134,7 +134,7 @@ function bodeSection(p: BlockPage, plotter: Plotter): string {
     b.claimedGbw.length || b.claimedPm.length || b.claimedGm.length || b.claimedBw.length ? '<li><span style="color:var(--claim)">┆</span> stated claims</li>' : '',
   ].filter(Boolean).join('');
   const closedNote = b.closedWhy ? `<p class="method">No closed-loop curve: ${esc(b.closedWhy)}.</p>` : '';
-  return `<h2 id="bode">Frequency response</h2>
+  return `<h2 id="s-bode">Frequency response</h2>
 <ul class="legend">${legend}</ul>
 <figure>${magnitude}<figcaption>Magnitude. ${b.crossover ? `Loop crossover f_c = ${formatQuantity(b.crossover.f, 'frequency')}.` : ''} ${b.gainMargin ? `Gain margin ${formatQuantity(b.gainMargin.db, 'gain')} at ${formatQuantity(b.gainMargin.f, 'frequency')}.` : ''}</figcaption></figure>
 <figure>${phase}<figcaption>Phase. ${b.crossover ? `Phase margin ${formatQuantity(b.crossover.pm, 'angle')} at f_c.` : ''}</figcaption></figure>
@@ -147,7 +147,7 @@ function derivations(p: BlockPage): string {
     const hand = d.hand ? `<dd>Hand estimate: <strong>${esc(d.hand.value)}</strong> — ${esc(d.hand.how)}${d.hand.where ? `, with ${esc(d.hand.where)}` : ''}</dd>${d.hand.notes.map((n) => `<dd class="method">note: ${esc(n)}</dd>`).join('')}` : '';
     return `<dt id="d-${esc(d.key)}"><code>${esc(d.key)}</code>${d.claimed ? '' : ' <span class="method">(not claimed)</span>'} = ${esc(d.exact)}</dt><dd>${esc(d.how)} <span class="method">[${esc(d.method)}]</span></dd>${notes}${hand}`;
   });
-  return `<h2 id="derivation">Derivation of every figure</h2><dl class="deriv">${items.join('\n')}</dl>`;
+  return `<h2 id="s-derivation">Derivation of every figure</h2><dl class="deriv">${items.join('\n')}</dl>`;
 }
 
 /** One block's page. */
@@ -163,15 +163,15 @@ export function blockHtml(p: BlockPage, plotter: Plotter): string {
     parts.push(`<h2>Cannot be evaluated</h2><pre>${esc(p.error)}</pre>`);
     return shell(`${p.block} — polecheck review`, parts.join('\n'));
   }
-  parts.push(`<h2 id="claims-heading">Claims</h2>`, claimsTable(p));
+  parts.push(`<h2 id="s-claims-heading">Claims</h2>`, claimsTable(p));
   parts.push(bodeSection(p, plotter));
   const pz = plotter.poleZero(p);
-  parts.push(`<h2 id="roots">Poles and zeros</h2><div class="pz">${pz ? `<figure>${pz}<figcaption>× poles of A(s), ○ zeros of A(s)${p.closedPoles.length ? ', □ closed-loop poles' : ''}; symmetric-log axes.</figcaption></figure>` : ''}<div class="roots scroll">${rootsTable(p)}</div></div>`);
-  if (p.step) parts.push(`<h2 id="step">Step response</h2><figure>${plotter.step(p.step, p.block)}<figcaption>Small-signal step of the closed loop; dashed: the settling band.${p.step.largeSettling ? ` ${esc(p.step.largeSettling.how)}.` : ''}</figcaption></figure><figure>${plotter.settling(p.step, p.block)}<figcaption>The same response as its distance from the final value, on a log axis: the settling band and the last exit from it.</figcaption></figure>`);
-  else if (p.stepWhy) parts.push(`<h2 id="step">Step response</h2><p>No step response: ${esc(p.stepWhy)}.</p>`);
-  if (p.noise) parts.push(`<h2 id="noise">Noise</h2><figure>${plotter.noise(p.noise, p.block)}<figcaption>Input-referred voltage noise density.</figcaption></figure>`);
+  parts.push(`<h2 id="s-roots">Poles and zeros</h2><div class="pz">${pz ? `<figure>${pz}<figcaption>× poles of A(s), ○ zeros of A(s)${p.closedPoles.length ? ', □ closed-loop poles' : ''}; symmetric-log axes.</figcaption></figure>` : ''}<div class="roots scroll">${rootsTable(p)}</div></div>`);
+  if (p.step) parts.push(`<h2 id="s-step">Step response</h2><figure>${plotter.step(p.step, p.block)}<figcaption>Small-signal step of the closed loop; dashed: the settling band.${p.step.largeSettling ? ` A large step, as stated: ${esc(p.step.largeSettling.how)}.` : ''}</figcaption></figure><figure>${plotter.settling(p.step, p.block)}<figcaption>The same response as its distance from the final value, on a log axis: the settling band and the last exit from it.</figcaption></figure>`);
+  else if (p.stepWhy) parts.push(`<h2 id="s-step">Step response</h2><p>No step response: ${esc(p.stepWhy)}.</p>`);
+  if (p.noise) parts.push(`<h2 id="s-noise">Noise</h2><figure>${plotter.noise(p.noise, p.block)}<figcaption>Input-referred voltage noise density.</figcaption></figure>`);
   parts.push(derivations(p));
-  if (p.caveats.length || p.notes.length) parts.push(`<h2 id="caveats">Caveats and other findings</h2><ul>${[...p.caveats.map((c) => `<li>caveat: ${esc(c)}</li>`), ...p.notes.map((n) => `<li>${esc(n)}</li>`)].join('')}</ul>`);
+  if (p.caveats.length || p.notes.length) parts.push(`<h2 id="s-caveats">Caveats and other findings</h2><ul>${[...p.caveats.map((c) => `<li>caveat: ${esc(c)}</li>`), ...p.notes.map((n) => `<li>${esc(n)}</li>`)].join('')}</ul>`);
   parts.push(`<p class="caution" role="note">${esc(CAUTION)}</p>`);
   return shell(`${p.block} — polecheck review`, parts.join('\n'));
 }

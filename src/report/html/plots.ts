@@ -214,6 +214,8 @@ export class Plotter {
       P.ruleY([0, 1], { className: 'm-zero' }),
       P.line(s.points, { x: 't', y: 'y', className: 'c-step', strokeWidth: 1.75 }),
     ];
+    // A label to the right of its line, or to the left when the line is in the right half.
+    const beside = (t: number) => (t > 0.55 * end ? { textAnchor: 'end' as const, dx: -4 } : { textAnchor: 'start' as const, dx: 4 });
     const desc: string[] = [`The closed loop's small-signal step response y(t)/y(∞) over ${formatQuantity(end, 'time')}, with the settling band ±${+(100 * s.band).toPrecision(3)} % dashed.`];
     if (s.overshoot) {
       const o = s.overshoot;
@@ -223,12 +225,12 @@ export class Plotter {
     }
     if (s.settling !== undefined && s.settling <= end) {
       marks.push(P.ruleX([s.settling], { className: 'mk-margin' }));
-      marks.push(P.text([{ t: s.settling }], { x: 't', y: () => yLo + 0.1 * (yHi - yLo), text: () => `settled ${formatQuantity(s.settling!, 'time', 3)}`, textAnchor: 'start', dx: 4, className: 'mk-text' }));
+      marks.push(P.text([{ t: s.settling }], { x: 't', y: () => yLo + 0.1 * (yHi - yLo), text: () => `settled ${formatQuantity(s.settling!, 'time', 3)}`, ...beside(s.settling), className: 'mk-text' }));
       desc.push(`It stays within the band from ${formatQuantity(s.settling, 'time')}.`);
     }
     if (s.largeSettling && s.largeSettling.t <= end) {
       marks.push(P.ruleX([s.largeSettling.t], { className: 'mk-claim', strokeDasharray: '5,3' }));
-      marks.push(P.text([{ t: s.largeSettling.t }], { x: 't', y: () => yLo + 0.22 * (yHi - yLo), text: () => `large step, with slewing: ${formatQuantity(s.largeSettling!.t, 'time', 3)}`, textAnchor: 'start', dx: 4, className: 'mk-claim-text' }));
+      marks.push(P.text([{ t: s.largeSettling.t }], { x: 't', y: () => yLo + 0.22 * (yHi - yLo), text: () => `large step, with slewing: ${formatQuantity(s.largeSettling!.t, 'time', 3)}`, ...beside(s.largeSettling.t), className: 'mk-claim-text' }));
       desc.push(`A large step, slewing first, settles at ${formatQuantity(s.largeSettling.t, 'time')} (dashed).`);
     }
     return this.draw('step', `Step response of ${block}`, desc.join(' '), {

@@ -57,6 +57,13 @@ describe('the review pages of the demo repository', () => {
     }
   });
 
+  it('give every element id once per page', () => {
+    for (const [name, html] of site.files) {
+      const ids = [...html.matchAll(/ id="([^"]+)"/g)].map((m) => m[1]);
+      expect(ids.filter((id, i) => ids.indexOf(id) !== i), name).toEqual([]);
+    }
+  });
+
   it('round every coordinate to two decimals', () => {
     for (const html of site.files.values()) for (const svg of svgs(html).values()) expect(svg).not.toMatch(/="[^"]*\d\.\d{3,}/);
     expect(roundSvg('<path d="M0.123456,10.5L3.14159e-7,2"/>')).toBe('<path d="M0.12,10.5L0,2"/>');
@@ -66,6 +73,20 @@ describe('the review pages of the demo repository', () => {
     const p = site.pages.find((x) => x.block === 'strand-vcm-buffer')!;
     expect(p.counts).toEqual({ fails: 3, thin: 0, holds: 3 });
     expect(p.rows.filter((r) => r.verdict === 'fails').map((r) => `${r.key}:${r.line}`)).toEqual(['gbw:22', 'phase_margin:24', 'input_noise:26']);
+  });
+
+  it('mark the large-signal settling time where a step is stated, inside the span drawn', () => {
+    const text = readFileSync('specs/strand/bridge-preamp.md', 'utf8').replace('  beta: 1\n', '  beta: 1\n  step: 1 V\n');
+    const r = checkText('bridge-preamp-step.md', text);
+    const fig = r.model!.exact.settling_time;
+    expect(fig.method).toBe('transient');
+    const one = renderSite([htmlSection(r)]);
+    const page = one.pages[0];
+    expect(page.step!.largeSettling!.t).toBe(fig.value);
+    expect(page.step!.points.at(-1)!.t).toBeGreaterThan(fig.value!);
+    // The small-signal settling beside it is shorter: the slewing is what the large step adds.
+    expect(page.step!.settling!).toBeLessThan(fig.value!);
+    expect(svgs(one.files.get(page.file)!).get('step')).toContain('large step, with slewing');
   });
 
   // The SVG of two blocks, one with every plot (a loop, a step, noise), one open-loop stage.
