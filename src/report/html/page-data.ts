@@ -187,8 +187,9 @@ export function pageData(r: FileResult): Omit<BlockPage, 'file'> | undefined {
       fixes: own.filter((f) => f.verdict!.outcome !== 'holds').flatMap((f) => f.suggestions),
     });
   }
+  // Counted by statement (a typ and a bound of one claim are two), as the text report's tally counts them.
   const counts = { fails: 0, thin: 0, holds: 0 };
-  for (const row of rows) counts[row.verdict]++;
+  for (const row of r.sheet?.rows ?? []) counts[row.outcome]++;
   const loop = inLoop(spec);
   const page: Omit<BlockPage, 'file'> = {
     ...base,

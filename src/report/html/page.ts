@@ -26,7 +26,7 @@ h3{font-size:1em;margin:1.2em 0 .3em}
 .caution{background:var(--panel);border-left:4px solid var(--claim);padding:8px 12px;margin:12px 0;font-size:.92em}
 .counts span{display:inline-block;margin-right:1em}
 .v-fails{color:var(--fails);font-weight:600}.v-thin{color:var(--thin);font-weight:600}.v-holds{color:var(--holds)}
-.scroll{overflow-x:auto}
+.scroll{overflow-x:auto}td.zero{color:var(--muted)}
 table{border-collapse:collapse;width:100%;font-size:.9em;font-variant-numeric:tabular-nums}
 th,td{border-bottom:1px solid var(--line);padding:4px 6px;text-align:left;vertical-align:top}
 th{background:var(--panel);font-weight:600}
@@ -84,7 +84,9 @@ ${body}
 const verdictWord = { fails: 'fails', thin: 'thin margin', holds: 'holds' };
 
 const counts = (c: BlockPage['counts']): string =>
-  `<span class="v-fails">${c.fails} failing</span> <span class="v-thin">${c.thin} thin</span> <span class="v-holds">${c.holds} holding</span>`;
+  `<span class="v-fails">${c.fails} failing</span> <span class="v-thin">${c.thin} thin</span> <span class="v-holds">${c.holds} holding</span> <span class="method">(statements: a typ and a bound of one claim count apart)</span>`;
+/** A count cell, dimmed at zero. */
+const countCell = (n: number, cls: string): string => `<td class="${n ? cls : 'zero'}">${n}</td>`;
 
 function claimsTable(p: BlockPage): string {
   if (!p.rows.length) return '<p>The block states no claims.</p>';
@@ -180,7 +182,7 @@ export function blockHtml(p: BlockPage, plotter: Plotter): string {
 export function indexHtml(pages: BlockPage[]): string {
   const total = { fails: 0, thin: 0, holds: 0 };
   for (const p of pages) for (const k of ['fails', 'thin', 'holds'] as const) total[k] += p.counts[k];
-  const rows = pages.map((p) => `<tr data-block="${esc(p.block)}"><td><a href="${esc(p.file)}">${esc(p.block)}</a></td><td>${esc(p.title)}</td><td><code>${esc(p.topology)}</code></td><td>${esc(p.point)}${p.stability ? ` · loop ${esc(p.stability)}` : ''}</td><td class="v-fails">${p.counts.fails}</td><td class="v-thin">${p.counts.thin}</td><td class="v-holds">${p.counts.holds}</td><td><code>${esc(p.path)}</code></td></tr>`);
+  const rows = pages.map((p) => `<tr data-block="${esc(p.block)}"><td><a href="${esc(p.file)}">${esc(p.block)}</a></td><td>${esc(p.title)}</td><td><code>${esc(p.topology)}</code></td><td>${esc(p.point)}${p.stability ? ` · loop ${esc(p.stability)}` : ''}</td>${countCell(p.counts.fails, 'v-fails')}${countCell(p.counts.thin, 'v-thin')}${countCell(p.counts.holds, 'v-holds')}<td><code>${esc(p.path)}</code></td></tr>`);
   const body = `<h1>Review of ${pages.length} block${pages.length === 1 ? '' : 's'}</h1>
 <p class="counts">${counts(total)}</p>
 <p class="caution" role="note">${esc(CAUTION)}</p>
