@@ -6,6 +6,7 @@
 import { readFileSync, readdirSync } from 'node:fs';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { checkText } from '../../../src/check';
+import { main } from '../../../src/cli';
 import { decades, niceTicks, roundSvg } from '../../../src/report/html/plots';
 import { CAUTION } from '../../../src/report/summary';
 import { type Site, htmlSection, ready, renderSite } from '../../../src/report/html/writer';
@@ -67,6 +68,17 @@ describe('the review pages of the demo repository', () => {
   it('round every coordinate to two decimals', () => {
     for (const html of site.files.values()) for (const svg of svgs(html).values()) expect(svg).not.toMatch(/="[^"]*\d\.\d{3,}/);
     expect(roundSvg('<path d="M0.123456,10.5L3.14159e-7,2"/>')).toBe('<path d="M0.12,10.5L0,2"/>');
+  });
+
+  it('count the statements as the tally of the text report does', () => {
+    let out = '';
+    main(['specs'], { stdout: (x) => (out += x), stderr: () => {}, env: { NO_COLOR: '1' }, isTTY: false });
+    const tally = /(\d+) blocks, (\d+) claims: (\d+) fail, (\d+) thin/.exec(out)!;
+    const sum = (k: 'fails' | 'thin' | 'holds') => site.pages.reduce((n, p) => n + p.counts[k], 0);
+    expect(site.pages.length).toBe(Number(tally[1]));
+    expect(sum('fails') + sum('thin') + sum('holds')).toBe(Number(tally[2]));
+    expect(sum('fails')).toBe(Number(tally[3]));
+    expect(sum('thin')).toBe(Number(tally[4]));
   });
 
   it('state the failing claims of vcm-buffer as the text report does', () => {
