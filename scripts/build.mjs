@@ -4,7 +4,10 @@
 // bundled but evaluated only on demand (the writers of the formats other than
 // text, the diff library, the JSON Schema, worker threads); mathjs is not in
 // the bundle at all (it is imported only by describeUnknownUnit, which the
-// command does not use).
+// command does not use). The plotting library and its DOM, which only
+// `report --html` needs, are bundled apart into dist/html-libs.cjs: the
+// command's bundle requires that file when the HTML writer asks for them
+// (src/report/html/libs.ts), so neither is parsed by `check`.
 //
 // Then the loaders: dist/polecheck.js (the command, imported by
 // bin/polecheck.js) and dist/worker.js (a check worker thread) run the bundle
@@ -22,8 +25,29 @@ const pkg = JSON.parse(readFileSync(new URL('../package.json', import.meta.url),
 rmSync('dist/chunks', { recursive: true, force: true });
 rmSync('dist/polecheck.code-cache', { force: true });
 
+// src/report/html/libs.ts is dist/html-libs.cjs, required beside the bundle at run time.
+const htmlLibsApart = {
+  name: 'html-libs-apart',
+  setup(b) {
+    b.onResolve({ filter: /^\.\/libs$/ }, (args) => (args.importer.replace(/\\/g, '/').endsWith('src/report/html/writer.ts') ? { path: './html-libs.cjs', external: true } : undefined));
+  },
+};
+
+await build({
+  entryPoints: ['src/report/html/libs.ts'],
+  bundle: true,
+  platform: 'node',
+  target: 'node20',
+  format: 'cjs',
+  outfile: 'dist/html-libs.cjs',
+  logLevel: 'warning',
+});
+
 await build({
   entryPoints: ['src/main.ts'],
+  plugins: [htmlLibsApart],
+  // import() of the external libs becomes require(): the bundle runs in a vm.Script, which has no loader for import().
+  supported: { 'dynamic-import': false },
   bundle: true,
   platform: 'node',
   target: 'node20',

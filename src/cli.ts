@@ -7,6 +7,7 @@ import * as diff from 'diff';
 import * as schemaJson from './schema-json';
 import * as github from './report/github';
 import * as gitlab from './report/gitlab';
+import * as html from './report/html/writer';
 import * as json from './report/json';
 import * as review from './report/review';
 import * as sarif from './report/sarif';
@@ -20,12 +21,13 @@ export { type ReadFile, checkFile, discover, readSpecFile } from './cli/discover
 export { writeAtomically } from './cli/write';
 export type { MainIO } from './cli/run';
 
-const WRITERS: WriterModules = { text, json, sarif, github, gitlab, review, diff };
+// `report --html` lays out its pages once the plotting library is loaded: `await html.ready()` first.
+const WRITERS: WriterModules = { text, json, sarif, github, gitlab, review, html, diff };
 
 export function main(argv: string[], io: MainIO): number {
   const plan = prepare(argv, io);
   if (typeof plan === 'number') return plan;
   if (plan.kind === 'schema') return printSchema(plan.which, io, schemaJson);
-  const output = outputFrom(plan.o, plan.color, WRITERS);
+  const output = outputFrom(plan.o, plan.color, WRITERS, plan.cwd);
   return finish(plan, checkInThread(plan, output.section), output, io);
 }

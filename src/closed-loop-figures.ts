@@ -238,6 +238,17 @@ const of = (m: Model): ClosedLoopOf => {
   return c;
 };
 
+/**
+ * The closed loop of a model as the figures see it, for plots: the response
+ * (or why there is none), the signal gain's factor (A_CL = factor·A/(1 + βA))
+ * and the settling band.
+ */
+export function closedLoopView(m: Model): { response: ClosedLoopResponse | string; factor: number; band: number } | undefined {
+  if (!hasLoopClaims(m)) return undefined;
+  const c = of(m);
+  return { response: c.response, factor: c.gain.factor, band: c.band };
+}
+
 /** Whether the topology claims closed-loop figures at all (an open-loop stage does not). */
 const hasLoopClaims = (m: Model): boolean => m.topology.claims.some((c) => c.key === 'settling_time');
 

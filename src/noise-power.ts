@@ -176,6 +176,14 @@ function powerFigures(m: Model, key: 'supply_current' | 'power' | 'fom'): Figure
   return figure(fom, 'MHz·pF/mA', 'bias-currents', `${how} = ${fq(gbw.value, 'frequency')} · ${fq(cl, 'capacitance')} / ${fq(i.amps, 'current')} (GBW from the exact response; ${i.how})`);
 }
 
+/** The input-referred density e_n(f) in V/√Hz (thermal sources and the 1/f term), for plots; undefined where the topology states no noise. */
+export function inputNoiseDensity(m: Model): ((fHz: number) => number) | undefined {
+  if (!m.topology.noise) return undefined;
+  const n = noiseOf(m);
+  if (n.noise.missing) return undefined;
+  return (fHz) => Math.sqrt(n.density(fHz));
+}
+
 /** The noise and power figures the topology claims, each a thunk computed on first use. */
 export function noisePowerFigures(m: Model): Record<string, () => Figure> {
   const claimed = new Set(m.topology.claims.map((c) => c.key));

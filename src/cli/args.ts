@@ -14,6 +14,8 @@ export const HELP = `polecheck ${VERSION} — checks the claims of analog block 
 
   polecheck [check] [paths…]      judge every claim of the specs (files, or folders searched for *.md)
   polecheck report [paths…]       every claim: stated, exact, hand estimate, verdict (exit 0)
+  polecheck report --html DIR [paths…]
+                                  the review pages: DIR/index.html and one page per block, with plots
   polecheck rules                 the rules and their levels
   polecheck explain ID            a rule's page, or what a reader finding means
   polecheck schema [spec|config]  the JSON Schema (draft-07) of the front matter or of polecheck.yaml
@@ -54,6 +56,8 @@ export interface Options {
   warningsAllowed?: number;
   errorsOnly: boolean;
   out?: string;
+  /** `report --html DIR`: write the review pages into DIR. */
+  html?: string;
   maxBytes: number;
   config?: string;
   restate: boolean;
@@ -99,6 +103,9 @@ export function parseArgs(argv: string[]): Options {
       }
       case '--config':
         o.config = value(flag, inline);
+        break;
+      case '--html':
+        o.html = value(flag, inline);
         break;
       case '--restate':
         o.restate = true;
@@ -153,6 +160,8 @@ export function parseArgs(argv: string[]): Options {
         throw new UsageError(`unknown option '${a}' (see polecheck --help)`);
     }
   }
+  if (o.html !== undefined && o.command !== 'report') throw new UsageError('--html goes with report (polecheck report --html DIR [paths…])');
+  if (o.html !== undefined && o.format !== 'text') throw new UsageError('--html writes the review pages; it takes no --format');
   if (o.restateBounds && !o.restate && !o.preview) throw new UsageError('--restate-bounds goes with --restate or --preview');
   return o;
 }

@@ -14,7 +14,7 @@ export interface JobSettings {
   /** --restate / --preview: plan the edits; with `recheck`, also check the fixed text (its findings stand once it is written). */
   fix?: { bounds: boolean; recheck: boolean };
   /** `report` in the reviewer's format: render each file's section, in colour or not. */
-  review?: { color: boolean };
+  review?: { color: boolean; html?: boolean };
 }
 
 /** A renderer of one file's section of the reviewer report (loaded only for `report`). */

@@ -4,7 +4,7 @@
 // SARIF, GitLab, the reviewer report or diffs.
 
 import { pathToFileURL } from 'node:url';
-import { resolve } from 'node:path';
+import { join, resolve } from 'node:path';
 import { RULES } from '../../rules';
 import type { FileResult } from '../check';
 import { paint } from '../report/style';
@@ -21,8 +21,13 @@ export interface WriterModules {
   github?: typeof import('../report/github');
   gitlab?: typeof import('../report/gitlab');
   review?: typeof import('../report/review');
+  /** `report --html DIR`: the page writer, its plotting library loaded. */
+  html?: typeof import('../report/html/writer');
   diff?: typeof import('diff');
 }
+
+/** The output could not be written (exit status 2). */
+export class OutputError extends Error {}
 
 export type Differ = (path: string, before: string, after: string) => string;
 
@@ -40,7 +45,7 @@ type Lazy = Exclude<keyof WriterModules, 'text'>;
 /** The writer modules `o` needs beyond the text writer. */
 export function modulesFor(o: Options): Lazy[] {
   const out: Lazy[] = [];
-  if (o.command === 'report') out.push(o.format === 'json' ? 'json' : 'review');
+  if (o.command === 'report') out.push(o.html !== undefined ? 'html' : o.format === 'json' ? 'json' : 'review');
   else if (o.format !== 'text') out.push(o.format);
   if (o.preview) out.push('diff');
   return out;
@@ -52,6 +57,11 @@ const LOADERS: { [K in Lazy]: () => Promise<NonNullable<WriterModules[K]>> } = {
   github: () => import('../report/github'),
   gitlab: () => import('../report/gitlab'),
   review: () => import('../report/review'),
+  html: async () => {
+    const m = await import('../report/html/writer');
+    await m.ready();
+    return m;
+  },
   diff: () => import('diff'),
 };
 
@@ -65,8 +75,9 @@ export async function loadWriters(o: Options): Promise<WriterModules> {
   return m;
 }
 
-/** Only the reviewer writer, for a worker thread that renders sections. */
-export async function loadReviewer(color: boolean): Promise<Reviewer> {
+/** Only the reviewer writer, for a worker thread that renders sections (with `html`, a review page's data). */
+export async function loadReviewer(color: boolean, html = false): Promise<Reviewer> {
+  if (html) return (await import('../report/html/writer')).htmlSection;
   const review = await LOADERS.review();
   return reviewerFrom(review, color);
 }
@@ -82,7 +93,8 @@ const asResults = (results: Checked[]): FileResult[] => results;
 const quietly = (results: FileResult[], errorsOnly: boolean): FileResult[] =>
   errorsOnly ? results.map((r) => ({ ...r, findings: r.findings.filter((f) => f.severity === 'error' && !f.waived) })) : results;
 
-export function outputFrom(o: Options, color: boolean, m: WriterModules): Output {
+/** `cwd`: the folder relative paths of the output are taken from (the command's working folder). */
+export function outputFrom(o: Options, color: boolean, m: WriterModules, cwd = process.cwd()): Output {
   const p = paint(color);
   const need = <K extends keyof WriterModules>(k: K): NonNullable<WriterModules[K]> => {
     const mod = m[k];
@@ -95,7 +107,21 @@ export function outputFrom(o: Options, color: boolean, m: WriterModules): Output
     out.diff = (path, before, after) => createTwoFilesPatch(path, path, before, after, undefined, undefined, { context: 3, headerOptions: FILE_HEADERS_ONLY });
   }
   if (o.command === 'report') {
-    if (o.format === 'json') {
+    if (o.html !== undefined) {
+      const dir = o.html;
+      const html = need('html');
+      out.section = html.htmlSection;
+      // The pages are written here; what the command prints is where they are.
+      out.render = (results) => {
+        const site = html.renderSite(results.map((r) => r.section ?? ''));
+        try {
+          html.writeSite(resolve(cwd, dir), site);
+        } catch (err) {
+          throw new OutputError(`cannot write the review pages to ${dir}: ${(err as Error).message}`);
+        }
+        return `${site.pages.length} block page${site.pages.length === 1 ? '' : 's'} written to ${dir}; open ${join(dir, 'index.html')}\n`;
+      };
+    } else if (o.format === 'json') {
       const { jsonReport } = need('json');
       out.render = (results) => jsonReport(asResults(results));
     } else {

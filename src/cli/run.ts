@@ -17,7 +17,7 @@ import { HELP, type Options, UsageError, VERSION, parseArgs } from './args';
 import { selectFiles } from './discover';
 import { docsDir } from './docs';
 import type { JobSettings, Outcome } from './job';
-import { type Output, loadWriters, outputFrom } from './output';
+import { type Output, OutputError, loadWriters, outputFrom } from './output';
 import { type Plan, checkInThread } from './plan';
 import { checkInWorkers } from './pool';
 import { writeFixes } from './write';
@@ -112,7 +112,7 @@ export function prepare(argv: string[], io: MainIO): Prepared | number {
   // One date for the whole run, in every thread: waiver expiry does not depend on which thread checked a file.
   const job: JobSettings = { check: { rules: config.rules, tolerances: config.tolerances, today: todayIso() } };
   if (o.restate || o.preview) job.fix = { bounds: o.restateBounds, recheck: !o.preview };
-  if (o.command === 'report' && o.format !== 'json') job.review = { color };
+  if (o.command === 'report' && o.format !== 'json') job.review = o.html !== undefined ? { color, html: true } : { color };
   // The cache serves plain checks only: reports, fixes and their diffs need the models.
   const useCache = o.cache && o.command === 'check' && !o.restate && !o.preview;
   const cache = useCache ? new ResultCache(resolve(cwd, o.cacheDir), hashOf(VERSION, CACHE_FORMAT, JSON.stringify(config.rules), JSON.stringify(config.tolerances), new Date().toISOString().slice(0, 10))) : undefined;
@@ -131,7 +131,14 @@ export function finish(plan: Plan, outcomes: Outcome[], output: Output, io: Main
     const status = writeFixes(outcomes, io, plan.cwd, o.preview ? output.diff : undefined);
     if (status !== undefined) return status;
   }
-  const text = output.render(outcomes);
+  let text: string;
+  try {
+    text = output.render(outcomes);
+  } catch (err) {
+    if (!(err instanceof OutputError)) throw err;
+    io.stderr(`polecheck: ${err.message}\n`);
+    return 2;
+  }
   if (o.out) {
     try {
       writeFileSync(o.out, text);
@@ -191,7 +198,7 @@ export async function run(argv: string[], io: MainIO, opts: RunOptions = {}): Pr
   const plan = prepare(argv, io);
   if (typeof plan === 'number') return plan;
   if (plan.kind === 'schema') return printSchema(plan.which, io, await import('../schema-json'));
-  const output = outputFrom(plan.o, plan.color, await loadWriters(plan.o));
+  const output = outputFrom(plan.o, plan.color, await loadWriters(plan.o), plan.cwd);
   const workers = opts.workerEntry ? workerCount(plan.files.length, io.env, () => availableParallelism()) : 0;
   const outcomes = workers > 0 && opts.workerEntry ? await checkInWorkers(plan, output.section, { entry: opts.workerEntry, workers, mainChecks: false, batch: batchSize(plan.files.length, workers), maxOldGenerationSizeMb: WORKER_HEAP_MB }) : checkInThread(plan, output.section);
   return finish(plan, outcomes, output, io);

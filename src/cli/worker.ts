@@ -11,7 +11,7 @@ export async function serveChecks(): Promise<void> {
   const { parentPort: port, workerData } = createRequire(import.meta.url)('node:worker_threads') as typeof import('node:worker_threads');
   if (!port) throw new Error('the check worker runs only in a worker thread');
   const { job } = workerData as { job: JobSettings };
-  const review = job.review ? await loadReviewer(job.review.color) : undefined;
+  const review = job.review ? await loadReviewer(job.review.color, job.review.html) : undefined;
   port.on('message', (batch: Item[]) => {
     let reply: Reply;
     try {
