@@ -18,6 +18,7 @@ usage:
   polecheck rules                        list the rules with their default severity
   polecheck explain RULE                 print a rule's documentation
   polecheck schema [spec|config]         print the JSON Schema (draft-07) of the front matter or of polecheck.yaml
+  polecheck lsp                          serve the Language Server Protocol over standard input and output (for editors)
 
 options:
   --format FORMAT        text (default), json, sarif, github or gitlab
@@ -44,7 +45,7 @@ export const FORMATS = ['text', 'json', 'sarif', 'github', 'gitlab'] as const;
 export type Format = (typeof FORMATS)[number];
 
 export interface Options {
-  command: 'check' | 'report' | 'rules' | 'explain' | 'schema' | 'help' | 'version';
+  command: 'check' | 'report' | 'rules' | 'explain' | 'schema' | 'lsp' | 'help' | 'version';
   format: Format;
   maxWarnings?: number;
   quiet: boolean;
@@ -64,7 +65,7 @@ export interface Options {
 export function parseArgs(argv: string[]): Options {
   const o: Options = { command: 'check', format: 'text', quiet: false, maxBytes: DEFAULT_MAX_BYTES, fix: false, fixBounds: false, fixDryRun: false, cache: false, cacheLocation: DEFAULT_CACHE_DIR, paths: [] };
   const args = [...argv];
-  if (args[0] && ['check', 'report', 'rules', 'explain', 'schema'].includes(args[0])) o.command = args.shift() as Options['command'];
+  if (args[0] && ['check', 'report', 'rules', 'explain', 'schema', 'lsp'].includes(args[0])) o.command = args.shift() as Options['command'];
   const value = (flag: string, inline: string | undefined): string => {
     const v = inline ?? args.shift();
     if (v === undefined || (inline === undefined && v.startsWith('--'))) throw new UsageError(`${flag} needs a value`);

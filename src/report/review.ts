@@ -25,7 +25,7 @@ const claimedText = (c: ClaimEntry | undefined): string => {
 /** Figures whose hand error reads as a percentage. */
 const RELATIVE_UNITS: ReadonlySet<string> = new Set(['Hz', 'V/s', 'F', 'V/√Hz', 'V', 'A', 'W', 'MHz·pF/mA', 's']);
 
-function handError(hand: Figure | undefined, exact: Figure | undefined, unit: string): string {
+export function handError(hand: Figure | undefined, exact: Figure | undefined, unit: string): string {
   if (!hand || hand.value === null || !exact || exact.value === null) return '—';
   if (RELATIVE_UNITS.has(unit) && exact.value !== 0) return `${((100 * (hand.value - exact.value)) / exact.value).toFixed(1)} %`;
   const d = hand.value - exact.value;
