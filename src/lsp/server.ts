@@ -153,18 +153,26 @@ export function startServer(connection: Connection): void {
     if (watchDynamically) void connection.client.register(DidChangeWatchedFilesNotification.type, { watchers: [{ globPattern: `**/${CONFIG_NAME}` }] });
   });
 
+  /** The versions of configurations open in the editor that the specs were last checked under. */
+  const configVersions = new Map<string, number>();
   documents.onDidOpen((e) => {
     const path = pathOf(e.document.uri);
-    if (path && isConfigFile(path)) revalidateAll();
-    validate(e.document);
+    if (path && isConfigFile(path)) {
+      configVersions.set(e.document.uri, e.document.version);
+      revalidateAll();
+    } else validate(e.document);
   });
   documents.onDidChangeContent((e) => {
     const path = pathOf(e.document.uri);
     if (path && isConfigFile(path)) {
-      // An edit to the configuration in the editor governs the specs at once.
+      // An edit to the configuration in the editor governs the specs at once (opening it fires this too).
+      if (configVersions.get(e.document.uri) === e.document.version) return;
+      configVersions.set(e.document.uri, e.document.version);
       revalidateAll();
       return;
     }
+    // Opening a document fires this too, after it was checked on open.
+    if (analyses.get(e.document.uri)?.version === e.document.version) return;
     schedule(e.document);
   });
   documents.onDidClose((e) => {
@@ -174,6 +182,7 @@ export function startServer(connection: Connection): void {
     analyses.delete(e.document.uri);
     void connection.sendDiagnostics({ uri: e.document.uri, diagnostics: [] });
     const path = pathOf(e.document.uri);
+    configVersions.delete(e.document.uri);
     // Closed without saving: the file on disk governs again.
     if (path && isConfigFile(path)) revalidateAll();
   });
