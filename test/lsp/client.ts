@@ -3,7 +3,11 @@
 // and speaks LSP to it through vscode-jsonrpc's message connection, as an
 // editor's generic LSP client does.
 
-import { type ChildProcess, spawn } from 'node:child_process';
+import { type ChildProcess, execFileSync, spawn } from 'node:child_process';
+import { cpSync, mkdtempSync, symlinkSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { dirname, join, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
 import { type MessageConnection, StreamMessageReader, StreamMessageWriter, createMessageConnection } from 'vscode-jsonrpc/node';
 import type { Diagnostic, PublishDiagnosticsParams } from 'vscode-languageserver-protocol';
 
@@ -93,3 +97,14 @@ export async function shutdown(c: Client): Promise<number | null> {
 }
 
 export type { Diagnostic };
+
+export const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '..', '..');
+
+/** The command built by the project's build script into a scratch folder (the shared dist/ is left alone); returns the folder and its bin/polecheck.js. */
+export function buildScratch(prefix: string): { scratch: string; bin: string } {
+  const scratch = mkdtempSync(join(tmpdir(), prefix));
+  for (const name of ['src', 'rules', 'node_modules', 'package.json', 'README.md']) symlinkSync(join(ROOT, name), join(scratch, name));
+  cpSync(join(ROOT, 'bin'), join(scratch, 'bin'), { recursive: true });
+  execFileSync(process.execPath, [join(ROOT, 'scripts', 'build.mjs')], { cwd: scratch, stdio: 'pipe' });
+  return { scratch, bin: join(scratch, 'bin', 'polecheck.js') };
+}

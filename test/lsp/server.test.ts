@@ -6,19 +6,17 @@
 // text report, `report`), from `polecheck schema`, or from ngspice; none is
 // a string made up here.
 
-import { execFileSync, spawnSync } from 'node:child_process';
-import { cpSync, existsSync, mkdirSync, mkdtempSync, readFileSync, renameSync, rmSync, symlinkSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import { dirname, join, resolve } from 'node:path';
+import { spawnSync } from 'node:child_process';
+import { cpSync, existsSync, mkdirSync, readFileSync, renameSync, rmSync, writeFileSync } from 'node:fs';
+import { dirname, join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { CodeAction, CompletionItem, Diagnostic, DocumentSymbol, Hover, TextEdit } from 'vscode-languageserver-protocol';
 import { checkText } from '../../src/check';
 import { readDocument } from '../../src/pipeline';
-import { type Client, initialize, shutdown, startClient } from './client';
+import { type Client, ROOT, buildScratch, initialize, shutdown, startClient } from './client';
 import { ngspiceAvailable, runTwoStage } from '../reference/ngspice';
 
-const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), '..', '..');
 
 let scratch: string;
 let bin: string;
@@ -121,11 +119,7 @@ const lineOf = (text: string, prefix: string): number => {
 };
 
 beforeAll(async () => {
-  scratch = mkdtempSync(join(tmpdir(), 'polecheck-lsp-'));
-  for (const name of ['src', 'rules', 'node_modules', 'package.json', 'README.md']) symlinkSync(join(ROOT, name), join(scratch, name));
-  cpSync(join(ROOT, 'bin'), join(scratch, 'bin'), { recursive: true });
-  execFileSync(process.execPath, [join(ROOT, 'scripts', 'build.mjs')], { cwd: scratch, stdio: 'pipe' });
-  bin = join(scratch, 'bin', 'polecheck.js');
+  ({ scratch, bin } = buildScratch('polecheck-lsp-'));
   ws = join(scratch, 'ws');
   mkdirSync(join(ws, '.git'), { recursive: true });
   cpSync(join(ROOT, 'specs'), join(ws, 'specs'), { recursive: true });
