@@ -11,7 +11,7 @@ import { INPUT_RULE_IDS } from '../diagnostics';
 import type { Finding, Fix } from '../findings';
 import { formatQuantity } from '../quantity';
 import type { QuantityAt, Spec } from '../spec/types';
-import type { Analysis } from './analysis';
+import { type Analysis, withDesignChanges } from './analysis';
 import { overlaps, toPosition } from './positions';
 
 const WAIVABLE = new Set([...RULES.map((r) => r.id), ...INPUT_RULE_IDS]);
@@ -110,7 +110,7 @@ export function waiverEdit(text: string, lines: string[], f: Finding, today: str
 }
 
 export function codeActions(a: Analysis, range: Range, today: string): CodeAction[] {
-  const r: FileResult | undefined = a.result;
+  const r: FileResult | undefined = withDesignChanges(a);
   if (!r?.spec) return [];
   const spec = r.spec;
   const out: CodeAction[] = [];

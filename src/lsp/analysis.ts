@@ -8,7 +8,7 @@ import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { type Diagnostic, DiagnosticSeverity, DiagnosticTag } from 'vscode-languageserver';
 import { RULES } from '../../rules';
-import { type FileResult, checkText } from '../check';
+import { type CheckOptions, type FileResult, checkText } from '../check';
 import { docsDir } from '../cli/docs';
 import type { Config, ConfigError } from '../config';
 import type { Finding } from '../findings';
@@ -20,8 +20,13 @@ export interface Analysis {
   version: number;
   text: string;
   lines: string[];
+  path?: string;
   /** Undefined when the document is not checked (not Markdown, excluded, or its configuration is broken). */
   result?: FileResult;
+  /** The check with the design changes searched for (its findings are the same, with more fixes): made when code actions are asked for. */
+  full?: FileResult;
+  /** The options of the check. */
+  options?: CheckOptions;
   config?: Config;
   configError?: ConfigError;
   diagnostics: Diagnostic[];
@@ -91,8 +96,19 @@ export function analyze(input: AnalyzeInput): Analysis {
   }
   const config = input.config.config;
   out.config = config;
-  const result = checkText(input.path, text, { rules: config.rules, tolerances: config.tolerances, today: input.today ?? todayIso() });
+  // As you type, the findings only: the design changes (the costly part of a failing claim) are searched for when a code action asks.
+  out.options = { rules: config.rules, tolerances: config.tolerances, today: input.today ?? todayIso() };
+  out.path = input.path;
+  const result = checkText(input.path, text, { ...out.options, designChanges: false });
   out.result = result;
   out.diagnostics = result.findings.map((f, i) => toDiagnostic(f, uri, text, lines, i));
   return out;
+}
+
+/** The document's check with design changes, made once per version; its findings are those of the diagnostics, in the same order. */
+export function withDesignChanges(a: Analysis): FileResult | undefined {
+  if (!a.result?.spec || !a.options || !a.path) return a.result;
+  a.full ??= checkText(a.path, a.text, a.options);
+  const same = a.full.findings.length === a.result.findings.length && a.full.findings.every((f, i) => f.rule === a.result!.findings[i].rule && f.line === a.result!.findings[i].line && f.column === a.result!.findings[i].column);
+  return same ? a.full : a.result;
 }

@@ -1,7 +1,8 @@
 // The language server: `polecheck lsp` speaks LSP over standard input and
 // output. Open Markdown specs are checked as `polecheck check` checks them
 // (src/check.ts, with the configuration and waivers that govern the file), a
-// short while after the last keystroke; the findings become diagnostics, and
+// short while after the last keystroke (without the design-change search, which
+// waits for a code action); the findings become diagnostics, and
 // hover, code actions, completion and the outline read the same check.
 
 import { dirname } from 'node:path';

@@ -12,21 +12,13 @@ import { designEdits, waiverEdit } from '../../src/lsp/actions';
 import { readDocument } from '../../src/pipeline';
 import { withParams } from '../../src/points';
 import type { Spec } from '../../src/spec/types';
-import { ROOT } from './client';
+import { ROOT, applyTextEdits } from './client';
 
 const read = (text: string): Spec => {
   const r = readDocument('spec.md', text);
   if (r.kind !== 'spec' || !r.spec) throw new Error('not a spec');
   return r.spec;
 };
-
-function apply(text: string, edits: Array<{ range: { start: { line: number; character: number }; end: { line: number; character: number } }; newText: string }>): string {
-  const lines = text.split('\n');
-  const offset = (p: { line: number; character: number }) => lines.slice(0, p.line).reduce((n, l) => n + l.length + 1, 0) + p.character;
-  let out = text;
-  for (const e of [...edits].sort((a, b) => offset(b.range.start) - offset(a.range.start))) out = out.slice(0, offset(e.range.start)) + e.newText + out.slice(offset(e.range.end));
-  return out;
-}
 
 describe('design-change edits', () => {
   const text = readFileSync(join(ROOT, 'specs', 'strand', 'bridge-preamp.md'), 'utf8');
@@ -39,7 +31,7 @@ describe('design-change edits', () => {
     ['two params at once', { cc: 1.2e-12, gm2: 3.1e-3 }],
   ])('%s', (_, changes) => {
     const edits = designEdits(spec, text, text.split('\n'), changes)!;
-    const edited = read(apply(text, edits));
+    const edited = read(applyTextEdits(text, edits));
     const judged = withParams(spec, changes);
     for (const key of Object.keys(changes)) {
       const want = judged.params.get(key)!;
@@ -66,7 +58,7 @@ describe('waiver skeleton', () => {
     ['an empty flow list', base.replace('block: b\n', 'block: b\nwaivers: []\n')],
   ])('%s: one more entry the reader reads, with an empty reason and an expiry 90 days out', (_, doc) => {
     const e = waiverEdit(doc, doc.split('\n'), finding, '2026-12-02')!;
-    const out = apply(doc, [e]);
+    const out = applyTextEdits(doc, [e]);
     const fm = out.slice(4, out.indexOf('\n---', 4));
     expect(fm).toMatch(/- rule: phase-margin\n\s+claim: phase_margin\n\s+reason: ""[^\n]*\n\s+expires: 2027-03-02/);
     expect((fm.match(/- rule:/g) ?? []).length).toBe((doc.match(/- rule:/g) ?? []).length + 1);

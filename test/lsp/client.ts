@@ -108,3 +108,12 @@ export function buildScratch(prefix: string): { scratch: string; bin: string } {
   execFileSync(process.execPath, [join(ROOT, 'scripts', 'build.mjs')], { cwd: scratch, stdio: 'pipe' });
   return { scratch, bin: join(scratch, 'bin', 'polecheck.js') };
 }
+
+/** The text with LSP edits applied (non-overlapping; lines ended by LF). */
+export function applyTextEdits(text: string, edits: Array<{ range: { start: { line: number; character: number }; end: { line: number; character: number } }; newText: string }>): string {
+  const lines = text.split('\n');
+  const offset = (p: { line: number; character: number }) => lines.slice(0, p.line).reduce((n, l) => n + l.length + 1, 0) + p.character;
+  let out = text;
+  for (const e of [...edits].sort((a, b) => offset(b.range.start) - offset(a.range.start))) out = out.slice(0, offset(e.range.start)) + e.newText + out.slice(offset(e.range.end));
+  return out;
+}

@@ -11,10 +11,10 @@ import { cpSync, existsSync, mkdirSync, readFileSync, renameSync, rmSync, writeF
 import { dirname, join } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import type { CodeAction, CompletionItem, Diagnostic, DocumentSymbol, Hover, TextEdit } from 'vscode-languageserver-protocol';
+import type { CodeAction, CompletionItem, Diagnostic, DocumentSymbol, Hover } from 'vscode-languageserver-protocol';
 import { checkText } from '../../src/check';
 import { readDocument } from '../../src/pipeline';
-import { type Client, ROOT, buildScratch, initialize, shutdown, startClient } from './client';
+import { type Client, ROOT, applyTextEdits, buildScratch, initialize, shutdown, startClient } from './client';
 import { ngspiceAvailable, runTwoStage } from '../reference/ngspice';
 
 
@@ -73,15 +73,6 @@ function expectSameAsCheck(diags: Diagnostic[], findings: JsonFinding[]): void {
       expect(existsSync(fileURLToPath(d.codeDescription.href))).toBe(true);
     } else expect(existsSync(join(ROOT, 'rules', `${f.rule}.md`))).toBe(false);
   });
-}
-
-function applyEdits(text: string, edits: TextEdit[]): string {
-  const lines = text.split('\n');
-  const offset = (p: { line: number; character: number }) => lines.slice(0, p.line).reduce((n, l) => n + l.length + 1, 0) + p.character;
-  const sorted = [...edits].sort((a, b) => offset(b.range.start) - offset(a.range.start));
-  let out = text;
-  for (const e of sorted) out = out.slice(0, offset(e.range.start)) + e.newText + out.slice(offset(e.range.end));
-  return out;
 }
 
 const specPath = (name: string) => join(ws, 'specs', 'strand', name);
@@ -248,7 +239,7 @@ describe('code actions', () => {
     const restate = actions.find((a) => a.title.startsWith('Restate gbw'))!;
     const [edit] = restate.edit!.changes![uriOf(path)];
     expect([edit.range.start.line + 1, edit.range.start.character + 1, edit.range.end.line + 1, edit.range.end.character + 1, edit.newText]).toEqual([fix.line, fix.column, fix.endLine, fix.endColumn, fix.text]);
-    const fixed = applyEdits(text, [edit]);
+    const fixed = applyTextEdits(text, [edit]);
     expect(checkJson(path, fixed).filter((f) => f.claim === 'gbw' && f.verdict?.outcome === 'fails')).toEqual([]);
     await close(path);
   });
@@ -271,7 +262,7 @@ describe('code actions', () => {
       for (const [i, a] of actions.entries()) {
         const fix = designs[i];
         expect(a.isPreferred ?? false).toBe(Boolean(fix.meetsAll && fix.stable));
-        const changed = applyEdits(text, a.edit!.changes![uriOf(path)]);
+        const changed = applyTextEdits(text, a.edit!.changes![uriOf(path)]);
         const after = checkJson(path, changed);
         // The claim the change was solved for holds; with meetsAll, no claim fails at all.
         expect(after.filter((x) => x.claim === f.claim && x.verdict?.outcome === 'fails')).toEqual([]);
@@ -292,7 +283,7 @@ describe('code actions', () => {
     const f = checkJson(path, text).find((x) => x.rule === 'phase-margin')!;
     const rz = f.fixes!.find((y) => y.kind === 'design' && y.changes && 'rz' in y.changes)!;
     const a = (await actionsAt(path, f.line - 1, f.column - 1)).find((x) => x.title.startsWith('Design change: rz'))!;
-    const changed = applyEdits(text, a.edit!.changes![uriOf(path)]);
+    const changed = applyTextEdits(text, a.edit!.changes![uriOf(path)]);
     // The command reads the new param back as the value the change was computed for (3 significant digits, as printed).
     const read = checkText(path, changed).spec!.params.get('rz')!.typ.quantity.value;
     expect(read / rz.changes!.rz).toBeCloseTo(1, 2);
@@ -306,7 +297,7 @@ describe('code actions', () => {
     await open(path, text);
     const f = checkJson(path, text).find((x) => x.rule === 'slew-rate')!;
     const a = (await actionsAt(path, f.line - 1, f.column - 1)).find((x) => x.title.startsWith('Waive slew-rate'))!;
-    const skeleton = applyEdits(text, a.edit!.changes![uriOf(path)]);
+    const skeleton = applyTextEdits(text, a.edit!.changes![uriOf(path)]);
     const asked = checkJson(path, skeleton).filter((x) => x.rule === 'waiver');
     expect(asked.length).toBe(1);
     expect(asked[0].message).toContain('no `reason`');
