@@ -28,8 +28,11 @@ export function tokenRange(text: string, lines: string[], line: number, column: 
   const src = lines[start.line] ?? '';
   const at = Math.min(start.character, src.length);
   const m = TOKEN.exec(src.slice(at));
-  const len = m ? m[0].length : at < src.length ? 1 : 0;
-  return { start: { line: start.line, character: at }, end: { line: start.line, character: at + len } };
+  if (m) return { start: { line: start.line, character: at }, end: { line: start.line, character: at + m[0].length } };
+  // Past the end of what was written (`gbw: 7` lacks its unit after the 7): the word before.
+  const back = /[^\s:,{}[\]|#]+[ \t]*$/.exec(src.slice(0, at));
+  if (back) return { start: { line: start.line, character: at - back[0].length }, end: { line: start.line, character: at } };
+  return { start: { line: start.line, character: at }, end: { line: start.line, character: Math.min(src.length, at + 1) } };
 }
 
 export const inRange = (p: Position, r: Range): boolean =>

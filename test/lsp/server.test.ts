@@ -59,7 +59,9 @@ const SEVERITY: Record<string, number> = { error: 1, warning: 2, info: 3, note: 
 
 /** The diagnostics say what the command's findings say: same rule, place, severity, message, related places, rule page. */
 function expectSameAsCheck(diags: Diagnostic[], findings: JsonFinding[]): void {
-  expect(diags.map((d) => `${d.code}@${d.range.start.line + 1}:${d.range.start.character + 1}`)).toEqual(findings.map((f) => `${f.rule}@${f.line}:${f.column}`));
+  // The range holds the finding's place (a finding just past what was written covers the word before it).
+  const place = (d: Diagnostic, f: JsonFinding | undefined) => (f && d.range.start.line === f.line - 1 && d.range.start.character <= f.column - 1 && f.column - 1 <= d.range.end.character ? `${f.line}:${f.column}` : `${d.range.start.line + 1}:${d.range.start.character + 1}`);
+  expect(diags.map((d, i) => `${d.code}@${place(d, findings[i])}`)).toEqual(findings.map((f) => `${f.rule}@${f.line}:${f.column}`));
   findings.forEach((f, i) => {
     const d = diags[i];
     expect(d.severity).toBe(f.waived ? 4 : SEVERITY[f.severity]);
@@ -148,6 +150,20 @@ describe('diagnostics', () => {
     expect(expected.some((f) => f.claim === 'dc_gain')).toBe(true);
     expect(expected.some((f) => f.rule === 'gain-bandwidth')).toBe(false);
     expectSameAsCheck(diags, expected);
+    await close(path);
+  });
+
+  it('a number typed without its unit yet: the diagnostic covers the number, as the command reports the finding', async () => {
+    const path = specPath('adc-driver.md');
+    const text = readFileSync(path, 'utf8');
+    await open(path, text);
+    const typing = text.replace('gbw: 57 MHz', 'gbw: 7');
+    const diags = await change(path, typing);
+    const expected = checkJson(path, typing);
+    expect(expected.map((f) => f.rule)).toEqual(['wrong-unit']);
+    expectSameAsCheck(diags, expected);
+    const line = typing.split('\n')[diags[0].range.start.line];
+    expect(line.slice(diags[0].range.start.character, diags[0].range.end.character)).toBe('7');
     await close(path);
   });
 
