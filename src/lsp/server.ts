@@ -5,7 +5,6 @@
 // waits for a code action); the findings become diagnostics, and
 // hover, code actions, completion and the outline read the same check.
 
-import { dirname } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import {
   type CodeAction,
@@ -238,5 +237,3 @@ export function startServer(connection: Connection): void {
   documents.listen(connection);
   connection.listen();
 }
-
-export { dirname };

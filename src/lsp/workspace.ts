@@ -3,7 +3,6 @@
 // open there, from disk otherwise. Looked up once per folder and forgotten
 // whenever a configuration changes, is created, deleted or renamed.
 
-import { existsSync } from 'node:fs';
 import { dirname, relative } from 'node:path';
 import picomatch from 'picomatch';
 import { CONFIG_NAME, type Config, ConfigError, defaultConfig, findConfig, loadConfig, parseConfig } from '../config';
@@ -53,5 +52,3 @@ export function excluded(config: Config, path: string): boolean {
 }
 
 export const isConfigFile = (path: string): boolean => path.endsWith(`/${CONFIG_NAME}`) || path.endsWith(`\\${CONFIG_NAME}`) || path === CONFIG_NAME;
-
-export { existsSync };
