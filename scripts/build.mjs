@@ -9,6 +9,9 @@
 // command's bundle requires that file when the HTML writer asks for them
 // (src/report/html/libs.ts), so neither is parsed by `check`.
 //
+// A second bundle, dist/lsp.cjs, is the language server (`polecheck lsp`),
+// loaded through dist/lsp.js by that subcommand only.
+//
 // Then the loaders: dist/polecheck.js (the command, imported by
 // bin/polecheck.js) and dist/worker.js (a check worker thread) run the bundle
 // through dist/load.js with a V8 code cache, which the build makes last by
@@ -43,8 +46,7 @@ await build({
   logLevel: 'warning',
 });
 
-await build({
-  entryPoints: ['src/main.ts'],
+const bundleOptions = {
   plugins: [htmlLibsApart],
   // import() of the external libs becomes require(): the bundle runs in a vm.Script, which has no loader for import().
   supported: { 'dynamic-import': false },
@@ -52,18 +54,22 @@ await build({
   platform: 'node',
   target: 'node20',
   format: 'cjs',
-  outfile: 'dist/polecheck.cjs',
   // import.meta.url in the sources (rule pages beside the package, lazily loaded built-ins) is the bundle's own URL.
   define: { POLECHECK_VERSION: JSON.stringify(pkg.version), 'import.meta.url': '__polecheckUrl' },
   banner: { js: "var __polecheckUrl = require('node:url').pathToFileURL(__filename).href;" },
   logLevel: 'warning',
-});
+};
+await build({ ...bundleOptions, entryPoints: ['src/main.ts'], outfile: 'dist/polecheck.cjs' });
+// The language server (`polecheck lsp`) is a bundle of its own, with the
+// protocol libraries: the command loads it only for that subcommand.
+await build({ ...bundleOptions, entryPoints: ['src/lsp/main.ts'], outfile: 'dist/lsp.cjs' });
 
 copyFileSync(new URL('./bundle-loader.mjs', import.meta.url), 'dist/load.js');
 writeFileSync(
   'dist/polecheck.js',
-  "// The command (built by scripts/build.mjs): the bundle run with its code cache.\nimport { loadBundle } from './load.js';\n\nloadBundle().runCommand(new URL('./worker.js', import.meta.url));\n",
+  "// The command (built by scripts/build.mjs): the bundle run with its code cache.\nimport { loadBundle } from './load.js';\n\nloadBundle().runCommand(new URL('./worker.js', import.meta.url), () => import('./lsp.js').then((m) => m.serveLsp()));\n",
 );
+writeFileSync('dist/lsp.js', "// The language server (built by scripts/build.mjs), loaded by `polecheck lsp` only.\nimport { createRequire } from 'node:module';\n\nexport const { serveLsp } = createRequire(import.meta.url)('./lsp.cjs');\n");
 writeFileSync('dist/worker.js', "// A check worker thread (built by scripts/build.mjs; see src/cli/pool.ts).\nimport { loadBundle } from './load.js';\n\nloadBundle().serveChecks();\n");
 
 // The code cache: what V8 compiled for a plain check of a consistent spec and

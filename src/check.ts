@@ -37,6 +37,8 @@ export interface CheckOptions {
   tolerances?: Tolerances;
   /** YYYY-MM-DD, for waiver expiry; today when absent. */
   today?: string;
+  /** false: no design changes are searched for (the editor's as-you-type check; its code actions ask again). Default true. */
+  designChanges?: boolean;
 }
 
 export function checkText(path: string, text: string, options: CheckOptions = {}): FileResult {
@@ -56,7 +58,7 @@ export function checkText(path: string, text: string, options: CheckOptions = {}
     if (!hit) rechecked.set(key, (hit = recheck(spec, changes, options.tolerances)));
     return hit;
   };
-  for (const p of points) p.context.recheck = recheckOnce;
+  if (options.designChanges !== false) for (const p of points) p.context.recheck = recheckOnce;
   const [front, ...rows] = points;
   const claimRules = RULES.filter((r) => r.scope === 'claims');
   const designRules = RULES.filter((r) => r.scope !== 'claims');

@@ -28,6 +28,11 @@ export function main(argv: string[], io: MainIO): number {
   const plan = prepare(argv, io);
   if (typeof plan === 'number') return plan;
   if (plan.kind === 'schema') return printSchema(plan.which, io, schemaJson);
+  if (plan.kind === 'lsp') {
+    // A server runs in its own process (`polecheck lsp`), not inside this synchronous call.
+    io.stderr('polecheck: `lsp` serves an editor over standard input and output; run it as a process\n');
+    return 2;
+  }
   const output = outputFrom(plan.o, plan.color, WRITERS, plan.cwd);
   return finish(plan, checkInThread(plan, output.section), output, io);
 }

@@ -5,8 +5,8 @@ import { run } from './cli/run';
 
 export { serveChecks } from './cli/worker';
 
-/** Runs the command with the process's arguments and streams; `workerEntry` is the worker thread's script. */
-export function runCommand(workerEntry?: URL): void {
+/** Runs the command with the process's arguments and streams; `workerEntry` is the worker thread's script, `lsp` starts the language server from its own bundle. */
+export function runCommand(workerEntry?: URL, lsp?: () => Promise<number>): void {
   // A reader that stops early (`polecheck … | head`) is not an error.
   for (const stream of [process.stdout, process.stderr]) {
     stream.on('error', (err: NodeJS.ErrnoException) => {
@@ -18,7 +18,7 @@ export function runCommand(workerEntry?: URL): void {
     stream.write(s);
   };
   const io = { stdout: write(process.stdout), stderr: write(process.stderr), env: process.env, isTTY: Boolean(process.stdout.isTTY) };
-  run(process.argv.slice(2), io, { workerEntry }).then(
+  run(process.argv.slice(2), io, { workerEntry, lsp }).then(
     (code) => {
       process.exitCode = code;
     },

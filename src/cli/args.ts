@@ -19,6 +19,7 @@ export const HELP = `polecheck ${VERSION} — checks the claims of analog block 
   polecheck rules                 the rules and their levels
   polecheck explain ID            a rule's page, or what a reader finding means
   polecheck schema [spec|config]  the JSON Schema (draft-07) of the front matter or of polecheck.yaml
+  polecheck lsp                   a language server for editors, over standard input and output
 
 what to check
   --config PATH            settings from PATH instead of the nearest polecheck.yaml
@@ -51,7 +52,7 @@ export const FORMATS = ['text', 'json', 'sarif', 'github', 'gitlab'] as const;
 export type Format = (typeof FORMATS)[number];
 
 export interface Options {
-  command: 'check' | 'report' | 'rules' | 'explain' | 'schema' | 'help' | 'version';
+  command: 'check' | 'report' | 'rules' | 'explain' | 'schema' | 'lsp' | 'help' | 'version';
   format: Format;
   warningsAllowed?: number;
   errorsOnly: boolean;
@@ -73,7 +74,7 @@ export interface Options {
 export function parseArgs(argv: string[]): Options {
   const o: Options = { command: 'check', format: 'text', errorsOnly: false, maxBytes: DEFAULT_MAX_BYTES, restate: false, restateBounds: false, preview: false, cache: false, cacheDir: DEFAULT_CACHE_DIR, paths: [] };
   const args = [...argv];
-  if (args[0] && ['check', 'report', 'rules', 'explain', 'schema'].includes(args[0])) o.command = args.shift() as Options['command'];
+  if (args[0] && ['check', 'report', 'rules', 'explain', 'schema', 'lsp'].includes(args[0])) o.command = args.shift() as Options['command'];
   const value = (flag: string, inline: string | undefined): string => {
     const v = inline ?? args.shift();
     if (v === undefined || (inline === undefined && v.startsWith('--'))) throw new UsageError(`${flag} needs a value`);

@@ -33,7 +33,7 @@ export interface MainIO {
 /** Entries of an earlier layout (without the review sheet) are not reused under the same version. */
 const CACHE_FORMAT = 'findings+sheet';
 
-export type Prepared = Plan | { kind: 'schema'; which: 'spec' | 'config' };
+export type Prepared = Plan | { kind: 'schema'; which: 'spec' | 'config' } | { kind: 'lsp' };
 
 /** Parses the arguments and does what needs no file: help, version, rules, explain. Returns the exit status when done. */
 export function prepare(argv: string[], io: MainIO): Prepared | number {
@@ -83,6 +83,7 @@ export function prepare(argv: string[], io: MainIO): Prepared | number {
     }
     return { kind: 'schema', which };
   }
+  if (o.command === 'lsp') return { kind: 'lsp' };
 
   const cwd = io.cwd ?? process.cwd();
   let config: Config;
@@ -191,6 +192,8 @@ export const batchSize = (files: number, workers: number): number => Math.max(1,
 export interface RunOptions {
   /** The worker thread's entry (dist/worker.js beside the bundle); without it, every file is checked in this thread. */
   workerEntry?: URL;
+  /** Starts the language server from its own bundle (dist/lsp.js), loaded only by `polecheck lsp`; resolves never (the server ends the process). */
+  lsp?: () => Promise<number>;
 }
 
 /** The command as the process runs it: writers loaded on demand, a large folder checked in worker threads. */
@@ -198,6 +201,13 @@ export async function run(argv: string[], io: MainIO, opts: RunOptions = {}): Pr
   const plan = prepare(argv, io);
   if (typeof plan === 'number') return plan;
   if (plan.kind === 'schema') return printSchema(plan.which, io, await import('../schema-json'));
+  if (plan.kind === 'lsp') {
+    if (!opts.lsp) {
+      io.stderr('polecheck: `lsp` runs from the built command (npm run build)\n');
+      return 2;
+    }
+    return opts.lsp();
+  }
   const output = outputFrom(plan.o, plan.color, await loadWriters(plan.o), plan.cwd);
   const workers = opts.workerEntry ? workerCount(plan.files.length, io.env, () => availableParallelism()) : 0;
   const outcomes = workers > 0 && opts.workerEntry ? await checkInWorkers(plan, output.section, { entry: opts.workerEntry, workers, mainChecks: false, batch: batchSize(plan.files.length, workers), maxOldGenerationSizeMb: WORKER_HEAP_MB }) : checkInThread(plan, output.section);
