@@ -2,9 +2,11 @@
 // is what keeps a pre-commit run fast (module resolution of the dependency
 // tree dominates start-up otherwise). What a plain check does not use is
 // bundled but evaluated only on demand (the writers of the formats other than
-// text, the diff library, the JSON Schema, worker threads); mathjs is not in
-// the bundle at all (it is imported only by describeUnknownUnit, which the
-// command does not use).
+// text, the diff library, the JSON Schema, worker threads). mathjs is not in
+// the bundle: its parser, built with create() from the parse factories only
+// (src/spec/mathjs-parser.ts), is a chunk of its own, dist/expr.cjs, which the
+// bundle requires the first time a document holds an expression
+// (src/spec/expressions.ts); a spec without expressions never loads it.
 //
 // Then the loaders: dist/polecheck.js (the command, imported by
 // bin/polecheck.js) and dist/worker.js (a check worker thread) run the bundle
@@ -30,8 +32,19 @@ await build({
   format: 'cjs',
   outfile: 'dist/polecheck.cjs',
   // import.meta.url in the sources (rule pages beside the package, lazily loaded built-ins) is the bundle's own URL.
-  define: { POLECHECK_VERSION: JSON.stringify(pkg.version), 'import.meta.url': '__polecheckUrl' },
+  define: { POLECHECK_VERSION: JSON.stringify(pkg.version), POLECHECK_EXPR_CHUNK: JSON.stringify('./expr.cjs'), 'import.meta.url': '__polecheckUrl' },
   banner: { js: "var __polecheckUrl = require('node:url').pathToFileURL(__filename).href;" },
+  logLevel: 'warning',
+});
+
+// The expression parser's chunk (see above).
+await build({
+  entryPoints: ['src/spec/mathjs-parser.ts'],
+  bundle: true,
+  platform: 'node',
+  target: 'node20',
+  format: 'cjs',
+  outfile: 'dist/expr.cjs',
   logLevel: 'warning',
 });
 
