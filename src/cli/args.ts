@@ -18,6 +18,9 @@ usage:
   polecheck rules                        list the rules with their default severity
   polecheck explain RULE                 print a rule's documentation
   polecheck schema [spec|config]         print the JSON Schema (draft-07) of the front matter or of polecheck.yaml
+  polecheck sync SPEC --raw FILE [--preview]
+                                         update design quantities and params that name their source (\`from:\`)
+                                         from an ngspice operating point (raw file of an .op); --preview shows the diff
 
 options:
   --format FORMAT        text (default), json, sarif, github or gitlab
