@@ -244,3 +244,24 @@ describe('the compiler alone', () => {
     }
   });
 });
+
+describe('the JSON Schema knows design quantities, expressions and `from`', () => {
+  it('accepts what the reader accepts, rejects a shadowing name and a wrong unit', async () => {
+    const { default: Ajv } = await import('ajv');
+    const { load } = await import('js-yaml');
+    const { jsonSchema } = await import('../../src/schema-json');
+    const validate = new Ajv({ allErrors: true, strict: false }).compile(jsonSchema());
+    const fm = (text: string) => load(text.split(/^---\s*$/m)[1]);
+    const good = doc([...DESIGN, '  i_src: {typ: 20 µA, from: "@m5[id]"}', '  spread: 20 µA ±10%'], '2 * i1 / vov1', ['  f_corner: {typ: 10 kHz, from: "@m1[fc]"}']);
+    expect(checkText('g.md', good).findings.filter((f) => f.severity === 'error' && f.claim === null)).toEqual([]);
+    expect(validate(fm(good)), JSON.stringify(validate.errors)).toBe(true);
+    for (const [bad, why] of [
+      [doc(['  pF: 1 pF'], '200 µS'), 'a design quantity named like a unit'],
+      [doc([], '200 µS').replace('cout: 150 fF', 'cout: 1.2 MHz'), 'a wrong unit, not an expression'],
+      [doc(DESIGN, '2 * i1 / vov1').replace('gm_id: 10 /V', 'gm_id: {typ: 10 /V, form: x}'), 'a misspelt key of a design range'],
+    ] as const) {
+      expect(validate(fm(bad)), why).toBe(false);
+      expect(checkText('b.md', bad).findings.some((f) => f.severity === 'error' && f.claim === null), why).toBe(true);
+    }
+  });
+});
