@@ -226,8 +226,8 @@ export function spiceHint(text: string, unit: string): { message: string; write:
   const lower = letters.toLowerCase();
   const key = lower.startsWith('meg') ? 'meg' : lower.startsWith('mil') ? 'mil' : lower[0];
   const suffix = SPICE_SUFFIX[key];
-  // SPICE ignores letters after the scale (`10kohm`); here only a bare scale or a known SPICE form.
-  if (!suffix || key === 'mil' || (letters.length > key.length && !/^(meg|[tgkmunpf])(ohms?|f|h|v|a|s|hz)?$/i.test(letters))) return undefined;
+  // Only a bare scale: letters after it (`1.2 MHz`, a unit of the wrong dimension) are no SPICE habit.
+  if (!suffix || key === 'mil' || letters.length !== key.length) return undefined;
   const write = `${number} ${suffix[0]}${unit}`;
   if (key === 'm') {
     return { message: `\`${t}\` looks like SPICE notation, where \`${letters[0]}\` means milli in either case (mega is \`meg\`); write \`${number} m${unit}\` for milli or \`${number} M${unit}\` for mega`, write: `${number} M${unit}` };
@@ -454,7 +454,14 @@ export function looksLikeExpression(text: string, names: ReadonlySet<string>): b
   for (let i = 0; i < text.length; i++) {
     const ch = text[i];
     if (ch === '*' || ch === '/' || ch === '^' || ch === '(' || ch === ')' || ch === '+' || ch === '\u2225' || ch === '|' || ch === '\u00b7' || ch === '\u00d7') return true;
-    if ((ch === '-' || ch === '\u2212') && text.slice(0, i).trim() !== '') return true;
+    if ((ch === '-' || ch === '\u2212') && text.slice(0, i).trim() !== '') {
+      // Not an exponent's sign (`1e-6`), and not between digits (`2001-12-14`, a date).
+      const before = text[i - 1];
+      const after = text[i + 1] ?? '';
+      const exponent = (before === 'e' || before === 'E') && /[0-9.]/.test(text[i - 2] ?? '');
+      const betweenDigits = /[0-9]/.test(before) && /[0-9]/.test(after);
+      if (!exponent && !betweenDigits) return true;
+    }
   }
   if (names.size === 0) return false;
   const words = text.match(/[A-Za-z_][A-Za-z0-9_]*/g) ?? [];
