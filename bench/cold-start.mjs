@@ -52,33 +52,11 @@ claims:
 ---
 `;
 
-const EXPRESSIONS = `---
-polecheck: 1
-block: strand-cold-expressions
-topology: two-stage-miller
-design:
-  i1: 20 µA ±10%
-  vov1: 150 mV
-  ro2: 4 MΩ
-  ro4: 6 MΩ
-  gm_id2: 12 /V
-  i2: 150 µA
-params:
-  gm1: 2 * i1 / vov1
-  r1: ro2 ∥ ro4
-  c1: 45 fF
-  gm2: gm_id2 * i2
-  r2: 150 kΩ
-  c2: 120 fF
-  cc: 1.2 pF
-conditions:
-  cl: 2 pF
-claims:
-  gbw: 34 MHz
-  phase_margin: {min: 60 deg}
-  slew_rate: 16 V/µs
----
-`;
+// The same block written with design quantities and expressions (the same values).
+const EXPRESSIONS = PLAIN.replace('strand-cold-plain', 'strand-cold-expressions')
+  .replace('params:\n  gm1: 267 µS\n  r1: 2.4 MΩ', 'design:\n  i1: 20 µA ±10%\n  vov1: 150 mV\n  ro2: 4 MΩ\n  ro4: 6 MΩ\n  gm_id2: 12 /V\n  i2: 150 µA\nparams:\n  gm1: 2 * i1 / vov1\n  r1: ro2 ∥ ro4')
+  .replace('  gm2: 1.8 mS', '  gm2: gm_id2 * i2')
+  .replace('  i1: 20 µA ±10%\n  i2: 150 µA\nconditions', 'conditions');
 
 const scratch = mkdtempSync(join(tmpdir(), 'polecheck-cold-'));
 const log = (s) => process.stderr.write(`${s}\n`);

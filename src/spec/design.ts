@@ -119,7 +119,7 @@ function plainDesign(r: Reporter, e: YEntry, node: YNode, name: string): { q: Qu
 
 function readDesignValue(r: Reporter, e: YEntry): { entry: ValueEntry } | { pending: Pending } | undefined {
   const v = e.value;
-  const entryOf = (q: Quantity, dims: Dims, pos: Pos, span?: [number, number]): ValueEntry['typ'] => ({ quantity: q, pos, ...(span ? { span: { start: span[0], end: span[1] } } : {}), ...(dims ? {} : {}) });
+  const entryOf = (q: Quantity, pos: Pos, span?: [number, number]): ValueEntry['typ'] => ({ quantity: q, pos, ...(span ? { span: { start: span[0], end: span[1] } } : {}) });
   if (v.kind === 'map') {
     const bounds: Record<string, { q: Quantity; dims: Dims; pos: Pos; span?: [number, number] }> = {};
     let from: ValueEntry['from'];
@@ -162,7 +162,7 @@ function readDesignValue(r: Reporter, e: YEntry): { entry: ValueEntry } | { pend
       return undefined;
     }
     const kind = kindOfDims(dims) ?? 'ratio';
-    const at = (b: (typeof bounds)[string]) => entryOf({ ...b.q, kind }, dims, b.pos, b.span);
+    const at = (b: (typeof bounds)[string]) => entryOf({ ...b.q, kind }, b.pos, b.span);
     const typQ = typ ? at(typ) : { quantity: { ...min!.q, kind, value: (min!.q.value + max!.q.value) / 2 }, pos: min!.pos };
     if (typ && ((min && typ.q.value < min.q.value) || (max && typ.q.value > max.q.value))) {
       r.error('invalid-value', typ.pos, `the typical value of \`${e.key}\` lies outside its range`);

@@ -8,7 +8,7 @@
 // outside the whitelist is an error at its place.
 
 import { createRequire } from 'node:module';
-import { type Kind, UNITS } from '../quantity';
+import { KIND_NOUN, type Kind, UNITS } from '../quantity';
 
 // ---------------------------------------------------------------------------
 // Dimensions: exponents of ampere, volt and second, enough for every quantity
@@ -46,22 +46,10 @@ const KIND_WORD: Partial<Record<Kind, string>> = { ratio: 'dimensionless' };
 export function describeDims(d: Dims): string {
   const k = kindOfDims(d);
   const units = unitsOf(d);
-  if (k) return KIND_WORD[k] ?? `${NOUN[k]} (${units})`;
+  if (k) return KIND_WORD[k] ?? `${KIND_NOUN[k]} (${units})`;
   return units;
 }
 
-const NOUN: Partial<Record<Kind, string>> = {
-  conductance: 'a conductance',
-  resistance: 'a resistance',
-  capacitance: 'a capacitance',
-  current: 'a current',
-  voltage: 'a voltage',
-  time: 'a time',
-  frequency: 'a frequency',
-  slew: 'a slew rate',
-  noise: 'a noise density',
-  power: 'a power',
-};
 
 const SUPERSCRIPT: Record<string, string> = { '-': '⁻', '.': '·', 0: '⁰', 1: '¹', 2: '²', 3: '³', 4: '⁴', 5: '⁵', 6: '⁶', 7: '⁷', 8: '⁸', 9: '⁹' };
 

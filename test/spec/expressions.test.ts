@@ -265,3 +265,29 @@ describe('the JSON Schema knows design quantities, expressions and `from`', () =
     }
   });
 });
+
+describe('a spec written in design quantities checks, fixes and reports like one written in params', () => {
+  const plain = ['---', 'polecheck: 1', 'topology: two-stage-miller', 'params:', '  gm1: 250 µS', '  r1: 2.4 MΩ', '  c1: 45 fF', '  gm2: 1.8 mS', '  r2: 150 kΩ', '  c2: 120 fF', '  cc: 1.2 pF', '  i1: 20 µA', '  i2: 150 µA', 'conditions:', '  cl: 2 pF', 'claims:', '  gbw: 40 MHz', '  phase_margin: {min: 60 deg}', '  slew_rate: 16 V/µs', '---', ''].join('\n');
+  // 2 · 20 µA / 160 mV = 250 µS; 4 MΩ ∥ 6 MΩ = 2.4 MΩ; 12 /V · 150 µA = 1.8 mS.
+  const designed = plain
+    .replace('params:\n  gm1: 250 µS\n  r1: 2.4 MΩ', 'design:\n  i1: 20 µA\n  vov1: 160 mV\n  ro2: 4 MΩ\n  ro4: 6 MΩ\n  gm_id2: 12 /V\nparams:\n  gm1: 2 * i1 / vov1\n  r1: ro2 ∥ ro4')
+    .replace('  gm2: 1.8 mS', '  gm2: gm_id2 * i2')
+    .replace('  i1: 20 µA\n  i2: 150 µA\nconditions', '  i2: 150 µA\nconditions');
+  it('the same findings, figures and restatements; design changes on the design quantities', () => {
+    const a = checkText('a.md', plain);
+    const b = checkText('b.md', designed);
+    const shape = (r: typeof a) => r.findings.map((f) => [f.rule, f.severity, f.claim, f.message, f.computed, f.fixes?.filter((x) => x.kind === 'restate').map((x) => x.text)]);
+    expect(shape(b)).toEqual(shape(a));
+    expect(a.findings.some((f) => f.rule === 'gain-bandwidth')).toBe(true);
+    const knobs = (r: typeof a) => r.findings.flatMap((f) => f.fixes ?? []).flatMap((x) => (x.kind === 'design' ? Object.keys(x.changes) : []));
+    expect(knobs(a)).toContain('gm1');
+    expect(knobs(b)).not.toContain('gm1');
+    expect(knobs(b)).toEqual(expect.arrayContaining(['i1', 'vov1']));
+    // A design change on i1 moves gm1 = 2·i1/vov1 and the slew rate i1/cc together: its figures are re-judged with both.
+    const i1Fix = b.findings.flatMap((f) => f.fixes ?? []).find((x) => x.kind === 'design' && 'i1' in x.changes);
+    if (i1Fix?.kind !== 'design') throw new Error('no design change on i1');
+    const gm1 = (2 * i1Fix.changes.i1) / 0.16;
+    expect(i1Fix.gives.slew_rate).toBeCloseTo(Math.min(i1Fix.changes.i1 / 1.2e-12, (150e-6 - i1Fix.changes.i1) / (120e-15 + 2e-12)), 0);
+    expect(gm1).toBeGreaterThan(250e-6);
+  });
+});
