@@ -2,12 +2,15 @@
 // is what keeps a pre-commit run fast (module resolution of the dependency
 // tree dominates start-up otherwise). What a plain check does not use is
 // bundled but evaluated only on demand (the writers of the formats other than
-// text, the diff library, the JSON Schema, worker threads); mathjs is not in
-// the bundle at all (it is imported only by describeUnknownUnit, which the
-// command does not use). The plotting library and its DOM, which only
-// `report --html` needs, are bundled apart into dist/html-libs.cjs: the
-// command's bundle requires that file when the HTML writer asks for them
-// (src/report/html/libs.ts), so neither is parsed by `check`.
+// text, the diff library, the JSON Schema, worker threads). mathjs is not in
+// the bundle: its parser, built with create() from the parse factories only
+// (src/spec/mathjs-parser.ts), is a chunk of its own, dist/expr.cjs, which the
+// bundle requires the first time a document holds an expression
+// (src/spec/expressions.ts); a spec without expressions never loads it.
+// The plotting library and its DOM, which only `report --html` needs, are
+// bundled apart into dist/html-libs.cjs: the command's bundle requires that
+// file when the HTML writer asks for them (src/report/html/libs.ts), so
+// neither is parsed by `check`.
 //
 // A second bundle, dist/lsp.cjs, is the language server (`polecheck lsp`),
 // loaded through dist/lsp.js by that subcommand only.
@@ -55,7 +58,7 @@ const bundleOptions = {
   target: 'node20',
   format: 'cjs',
   // import.meta.url in the sources (rule pages beside the package, lazily loaded built-ins) is the bundle's own URL.
-  define: { POLECHECK_VERSION: JSON.stringify(pkg.version), 'import.meta.url': '__polecheckUrl' },
+  define: { POLECHECK_VERSION: JSON.stringify(pkg.version), POLECHECK_EXPR_CHUNK: JSON.stringify('./expr.cjs'), 'import.meta.url': '__polecheckUrl' },
   banner: { js: "var __polecheckUrl = require('node:url').pathToFileURL(__filename).href;" },
   logLevel: 'warning',
 };
@@ -63,6 +66,17 @@ await build({ ...bundleOptions, entryPoints: ['src/main.ts'], outfile: 'dist/pol
 // The language server (`polecheck lsp`) is a bundle of its own, with the
 // protocol libraries: the command loads it only for that subcommand.
 await build({ ...bundleOptions, entryPoints: ['src/lsp/main.ts'], outfile: 'dist/lsp.cjs' });
+
+// The expression parser's chunk (see above).
+await build({
+  entryPoints: ['src/spec/mathjs-parser.ts'],
+  bundle: true,
+  platform: 'node',
+  target: 'node20',
+  format: 'cjs',
+  outfile: 'dist/expr.cjs',
+  logLevel: 'warning',
+});
 
 copyFileSync(new URL('./bundle-loader.mjs', import.meta.url), 'dist/load.js');
 writeFileSync(

@@ -4,6 +4,7 @@
 // for the reviewer report.
 
 import { RULES } from '../rules';
+import { typicalValues } from './evaluation';
 import { type Finding, sortFindings } from './findings';
 import type { Model } from './model';
 import { readDocument } from './pipeline';
@@ -14,6 +15,7 @@ import type { Values } from './topologies/types';
 import type { Spec } from './spec/types';
 import type { Tolerances } from './verdict';
 import { applyWaivers, todayIso } from './waivers';
+import { formatKeyValue, relateFindings } from './spec/design';
 
 export type { OperatingPoint } from './points';
 
@@ -65,6 +67,10 @@ export function checkText(path: string, text: string, options: CheckOptions = {}
   findings.push(...runRules(claimRules, front.context, options.rules));
   findings.push(...runRules(designRules, { ...front.context, spec }, options.rules));
   for (const p of rows) findings.push(...runRules(claimRules, p.context, options.rules));
+  if (spec.derived) {
+    const values = typicalValues(spec);
+    relateFindings(findings, [...(spec.design?.values() ?? []), ...spec.params.values(), ...spec.conditions.values()], (name) => formatKeyValue(spec, name, values[name]));
+  }
   findings.push(...applyWaivers(findings, spec.waivers, options.today ?? todayIso()));
   // The figures of every statement, holding ones included: the worst-case searches are memoized, so this re-reads what the rules computed.
   const statements = judgeAll(points);
@@ -72,3 +78,4 @@ export function checkText(path: string, text: string, options: CheckOptions = {}
   result.sheet = sheetOf(result);
   return result;
 }
+

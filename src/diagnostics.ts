@@ -13,6 +13,8 @@ export const INPUT_DIAGNOSTICS: readonly { id: string; name: string; description
   { id: 'wrong-unit', name: 'WrongUnit', severity: 'error', description: 'A value whose unit does not fit its key.', waivable: true },
   { id: 'invalid-value', name: 'InvalidValue', severity: 'error', description: 'A value that cannot be read as a quantity, range or bound, or lies outside what its key allows.', waivable: true },
   { id: 'missing-value', name: 'MissingValue', severity: 'error', description: 'A key without a value.', waivable: true },
+  { id: 'expression', name: 'ExpressionProblem', severity: 'error', description: 'A value written as an expression that cannot be read or computed (a construct outside the expression whitelist, a cycle of expressions), or, as a note, a 1/s result read as rad/s.', waivable: true },
+  { id: 'design', name: 'DesignQuantityProblem', severity: 'error', description: 'A design quantity whose name cannot be used (it shadows a unit or a function) or that is also given under params or conditions.', waivable: true },
   { id: 'missing-param', name: 'MissingParam', severity: 'error', description: 'A param the topology needs is not given.', waivable: true },
   { id: 'network', name: 'UnsolvableNetwork', severity: 'error', description: 'The small-signal model cannot be solved, or a user-defined network is malformed.', waivable: true },
   { id: 'table', name: 'UncheckedTableContent', severity: 'note', description: 'A datasheet table row or condition that is not checked.', waivable: true },

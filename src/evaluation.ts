@@ -12,9 +12,13 @@ export interface Corner {
   values: Values;
 }
 
+/** Every value the model's inputs rest on: design quantities, params, conditions. A value written as an expression has no range of its own: it follows what it uses. */
 function entries(spec: Spec): ValueEntry[] {
-  return [...spec.params.values(), ...spec.conditions.values()];
+  return [...(spec.design?.values() ?? []), ...spec.params.values(), ...spec.conditions.values()];
 }
+
+/** The values the model reads: derived ones (expressions) recomputed from the rest. */
+export const resolved = (spec: Spec, values: Values): Values => (spec.derived ? spec.derived.resolve(values) : values);
 
 export function typicalValues(spec: Spec): Values {
   // No prototype: an element named `__proto__` or `constructor` is an ordinary key.
@@ -24,7 +28,7 @@ export function typicalValues(spec: Spec): Values {
     if (e.open) delete v[e.key];
     else v[e.key] = e.typ.quantity.value;
   }
-  return v;
+  return resolved(spec, v);
 }
 
 /** Most ranged keys whose every vertex is enumerated (2^n corners). */
@@ -77,7 +81,7 @@ export interface Evaluated {
 
 export function evaluateCorner(spec: Spec, corner: Corner): Evaluated {
   try {
-    return { corner, model: evaluate(spec.topology, corner.values) };
+    return { corner, model: evaluate(spec.topology, resolved(spec, corner.values)) };
   } catch (err) {
     if (err instanceof ModelError) return { corner, model: null, error: err.message };
     throw err;

@@ -16,6 +16,7 @@ import type { Judged } from './points';
 import { type Kind, type Written, formatLike, formatQuantity, parseQuantity } from './quantity';
 import type { Recheck, RuleContext } from './rule';
 import { slippedParams } from './slips';
+import { keySpecOf, knobKeys } from './spec/design';
 import type { ClaimEntry, QuantityAt, Spec } from './spec/types';
 import type { KeySpec, Values } from './topologies/types';
 import { type BoundVerdict, THIN_FRACTION, judge, toleranceFor } from './verdict';
@@ -291,7 +292,7 @@ function breaksOf(r: Recheck, target: Statement): Judged[] {
 
 function designFix(ctx: RuleContext, target: Statement, changes: Values, why: string | undefined, r: Recheck): Fix {
   const topo = ctx.spec.topology;
-  const kindOf = (k: string) => topo.params.find((p) => p.key === k)?.kind ?? 'ratio';
+  const kindOf = (k: string) => keySpecOf(ctx.spec, k)?.kind ?? 'ratio';
   const now = ctx.model.values;
   const changeText = Object.entries(changes).map(([k, v]) => `${k} = ${asPrinted(v, kindOf(k))}`).join(' and ');
   const nowText = Object.keys(changes).map((k) => (now[k] === undefined || now[k] === 0 ? 'now none' : `now ${formatQuantity(now[k], kindOf(k))}`)).join(', ');
@@ -355,11 +356,14 @@ export function designChanges(ctx: RuleContext, entry: ClaimEntry, v: BoundVerdi
   };
   // Closed-form hints of the topology, printed and then checked like the rest.
   for (const hint of topo.hints(entry.key, ctx.model.values)) {
+    // A hint that sets a value written as an expression is no change a designer can make as such.
+    if (Object.keys(hint.changes).some((k) => ctx.spec.derived?.basis.has(k))) continue;
     const changes: Values = {};
     for (const [k, x] of Object.entries(hint.changes)) changes[k] = printed(x, topo.params.find((p) => p.key === k)?.kind ?? 'ratio').value;
     if (holds(ctx, target, ctx.withChanges({ ...at, ...changes }), false)) add(changes, hint.why);
   }
-  const knobs = (topo.knobs[entry.key] ?? []).map((k) => topo.params.find((p) => p.key === k)).filter((k): k is KeySpec => k !== undefined);
+  // A knob written as an expression gives way to the design quantities it is computed from.
+  const knobs = knobKeys(ctx.spec, topo.knobs[entry.key] ?? []).map((k) => keySpecOf(ctx.spec, k)).filter((k): k is KeySpec => k !== undefined);
   const unmet: Array<{ key: KeySpec; closest: number; knifeEdge?: number }> = [];
   for (const key of knobs) {
     // Solved where the statement is judged; for a bound over ranges, judged
@@ -393,7 +397,7 @@ export function designChanges(ctx: RuleContext, entry: ClaimEntry, v: BoundVerdi
       const now = at[k.key] > 0 ? at[k.key] : k.scale?.(at) ?? 0;
       if (now > 0) range[k.key] = knobRange(k, now);
     }
-    const span = Object.entries(range).map(([k, [lo, hi]]) => `${k} from ${formatQuantity(lo, topo.params.find((p) => p.key === k)!.kind)} to ${formatQuantity(hi, topo.params.find((p) => p.key === k)!.kind)}`).join(', ');
+    const span = Object.entries(range).map(([k, [lo, hi]]) => `${k} from ${formatQuantity(lo, keySpecOf(ctx.spec, k)!.kind)} to ${formatQuantity(hi, keySpecOf(ctx.spec, k)!.kind)}`).join(', ');
     const named = unmet.filter((u) => Number.isFinite(u.closest));
     const closest = named.length ? `; the nearest approach is at ${named.map((u) => `${u.key.key} = ${formatQuantity(u.closest, u.key.kind)}`).join(', ')}` : '';
     const edges = unmet.filter((u) => u.knifeEdge !== undefined);

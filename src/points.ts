@@ -6,6 +6,7 @@
 // does to all of them.
 
 import { type Evaluated, conditionsText, corners, typicalValues } from './evaluation';
+import { keySpecOf } from './spec/design';
 import { type Finding, byCodeUnit } from './findings';
 import { type Model, ModelError, evaluate } from './model';
 import { inLoop } from './places';
@@ -64,7 +65,8 @@ export function contextFor(spec: Spec, overrides: Values, claims: ClaimEntry[], 
     if (hit) return hit;
     let out: { model: Model | null; error?: string };
     try {
-      out = { model: evaluate(spec.topology, values) };
+      // Values written as expressions follow the design quantities they use; a row's own conditions stay as the row gives them.
+      out = { model: evaluate(spec.topology, spec.derived ? { ...spec.derived.resolve(values), ...overrides } : values) };
     } catch (err) {
       if (!(err instanceof ModelError)) throw err;
       out = { model: null, error: err.message };
@@ -157,20 +159,24 @@ export function judgeAll(points: OperatingPoint[]): Judged[] {
 /** A spec whose params are changed: a ranged param keeps its spread around the new value. */
 export function withParams(spec: Spec, changes: Values): Spec {
   const params = new Map(spec.params);
+  const design = spec.design ? new Map(spec.design) : undefined;
   for (const [key, value] of Object.entries(changes)) {
-    const e = params.get(key);
-    const keySpec = spec.topology.params.find((p) => p.key === key);
+    // A design quantity that is no param is changed in `design`, and what derives from it follows.
+    const inDesign = design?.has(key) && !spec.topology.params.some((p) => p.key === key);
+    const target = inDesign ? design! : params;
+    const e = target.get(key);
+    const keySpec = inDesign ? keySpecOf(spec, key) : spec.topology.params.find((p) => p.key === key);
     if (!keySpec) continue;
     const at = (v: number, like?: ValueEntry['typ']) => ({ quantity: { value: v, kind: keySpec.kind, written: like?.quantity.written ?? { text: '', number: '', unit: '', style: 'si' as const, scale: 1, sigDigits: 3, decimals: 0 } }, pos: like?.pos ?? spec.paramsPos }) as ValueEntry['typ'];
     const typ = e?.typ.quantity.value;
     if (e && typ && typ > 0) {
       const f = value / typ;
-      params.set(key, { ...e, typ: at(value, e.typ), ...(e.min ? { min: at(e.min.quantity.value * f, e.min) } : {}), ...(e.max ? { max: at(e.max.quantity.value * f, e.max) } : {}) });
+      target.set(key, { ...e, typ: at(value, e.typ), ...(e.min ? { min: at(e.min.quantity.value * f, e.min) } : {}), ...(e.max ? { max: at(e.max.quantity.value * f, e.max) } : {}) });
     } else {
-      params.set(key, { key, keyPos: e?.keyPos ?? spec.paramsPos, spec: keySpec, typ: at(value, e?.typ) });
+      target.set(key, { key, keyPos: e?.keyPos ?? spec.paramsPos, spec: keySpec, typ: at(value, e?.typ) });
     }
   }
-  return { ...spec, params };
+  return { ...spec, params, ...(design ? { design } : {}) };
 }
 
 /** The whole spec judged again with params changed (a design change): every statement, and the closed loop at every point. */

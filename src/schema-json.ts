@@ -33,14 +33,36 @@ const kindDefs = (): Schema => {
         { type: 'string', pattern: quantityPattern(kind as Kind).replace(/\\s\*\$$/, `\\s*(?:±|\\+/-)\\s*${NUMBER}\\s*%\\s*$`) },
         {
           type: 'object',
-          properties: { min: { $ref: `#/definitions/${kind}` }, typ: { $ref: `#/definitions/${kind}` }, max: { $ref: `#/definitions/${kind}` } },
+          // `from`: the simulator vectors `polecheck sync` takes the value from.
+          properties: { min: { $ref: `#/definitions/${kind}` }, typ: { $ref: `#/definitions/${kind}` }, max: { $ref: `#/definitions/${kind}` }, from: { $ref: '#/definitions/from' } },
           additionalProperties: false,
           minProperties: 1,
         },
       ],
     };
   }
+  // A value written as an expression (src/spec/expressions.ts): an operator, a parenthesis, ∥, or a bare name.
+  defs.expression = {
+    type: 'string',
+    description: 'an expression over numbers with units, design quantities, params and conditions: + − * / ^, parentheses, sqrt, min, max, abs, and ∥ (or ||) for the parallel combination, e.g. `2 * i1 / vov1`, `ro2 ∥ ro4`',
+    anyOf: [{ pattern: '[*/^()+\u2225|\u00b7\u00d7]|\\S\\s*[-\u2212]' }, { pattern: '^\\s*[A-Za-z_][A-Za-z0-9_]*\\s*$' }],
+  };
+  defs.from = { type: 'string', minLength: 1, description: 'ngspice vectors of an operating point the value is imported from by `polecheck sync`, or an expression over them: `@m1[gm]`, `@m6[cgs] + @m2[cgd]`' };
   return defs;
+};
+
+/** `design:` — named quantities with units, ranges, expressions over each other, or a `from` for `polecheck sync`. */
+const DESIGN: Schema = {
+  type: 'object',
+  description: 'design quantities: named values with units (`i1: 20 µA ±10%`, `vov1: 150 mV`, `gm_id1: 16 /V`) that params, conditions and other design quantities may use in expressions; one named like a param or condition stands for it',
+  propertyNames: { pattern: '^[A-Za-z_][A-Za-z0-9_]*$', not: { enum: [...UNITS.keys(), 'rad', 'sqrt', 'min', 'max', 'abs'] } },
+  additionalProperties: {
+    anyOf: [
+      { type: 'string', minLength: 1 },
+      { type: 'number' },
+      { type: 'object', properties: { min: { type: 'string' }, typ: { type: 'string' }, max: { type: 'string' }, from: { $ref: '#/definitions/from' } }, additionalProperties: false, minProperties: 1 },
+    ],
+  },
 };
 
 function valueSchema(k: KeySpec): Schema {
@@ -51,6 +73,7 @@ function valueSchema(k: KeySpec): Schema {
   if (k.kind === 'ratio') forms.push({ type: 'number', exclusiveMinimum: 0, ...(k.max !== undefined ? { maximum: k.max } : {}) });
   if (k.allowZero) forms.push({ const: 0 }, { const: '0' });
   if (k.open) forms.push({ const: 'open' });
+  if (!['gain', 'angle', 'temperature', 'fom'].includes(k.kind) && k.key !== 'step') forms.push({ $ref: '#/definitions/expression' });
   return { description: k.description, anyOf: forms };
 }
 
@@ -158,6 +181,7 @@ export function jsonSchema(): Schema {
       title: { type: 'string' },
       topology: { enum: [...TOPOLOGIES.map((t) => t.id), 'network'] },
       network: { type: 'object' },
+      design: DESIGN,
       params: { type: 'object' },
       conditions: { type: 'object' },
       claims: { type: 'object' },

@@ -22,7 +22,8 @@ export function slipFactor(entry: ValueEntry, q: QuantityAt): number | undefined
 
 /** The values the author wrote for a param: not a midpoint, not the ends computed from `±N%`. */
 export const writtenValues = (entry: ValueEntry): QuantityAt[] =>
-  (entry.tolerance ? [entry.typ] : [entry.typIsMidpoint ? undefined : entry.typ, entry.min, entry.max]).filter((q): q is QuantityAt => q !== undefined);
+  // An expression's value is computed, not typed: a slip would be in what it uses.
+  entry.expression ? [] : (entry.tolerance ? [entry.typ] : [entry.typIsMidpoint ? undefined : entry.typ, entry.min, entry.max]).filter((q): q is QuantityAt => q !== undefined);
 
 /** Params of the spec with a likely prefix slip. */
 export function slippedParams(spec: Spec): string[] {

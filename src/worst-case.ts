@@ -45,6 +45,7 @@ import type { Figure } from './engine/figure';
 import type { Model } from './model';
 import { formatQuantity, type Kind } from './quantity';
 import type { RuleContext } from './rule';
+import { keySpecOf } from './spec/design';
 import type { Values } from './topologies/types';
 
 export interface WorstPoint {
@@ -106,11 +107,11 @@ export function worstCase(ctx: RuleContext, claim: string, bound: 'min' | 'max')
 
 function axesOf(ctx: RuleContext): Axis[] {
   const typical = ctx.evaluated[0]?.corner.values ?? {};
-  const specs = [...ctx.spec.topology.params, ...ctx.spec.topology.conditions];
+  // Design quantities are axes like params: the box is the one of the underlying values, never of values derived from them.
   return rangedKeys(ctx.spec)
     .filter((r) => r.hi > r.lo)
     .map((r) => {
-      const a: Axis = { ...r, typ: typical[r.key], typU: NaN, log: r.lo > 0 && r.hi / r.lo > LOG_SPAN, kind: specs.find((s) => s.key === r.key)?.kind };
+      const a: Axis = { ...r, typ: typical[r.key], typU: NaN, log: r.lo > 0 && r.hi / r.lo > LOG_SPAN, kind: keySpecOf(ctx.spec, r.key)?.kind };
       a.typU = toUnit(a, a.typ);
       return a;
     });

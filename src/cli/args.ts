@@ -20,6 +20,8 @@ export const HELP = `polecheck ${VERSION} — checks the claims of analog block 
   polecheck explain ID            a rule's page, or what a reader finding means
   polecheck schema [spec|config]  the JSON Schema (draft-07) of the front matter or of polecheck.yaml
   polecheck lsp                   a language server for editors, over standard input and output
+  polecheck sync SPEC --raw FILE  update design quantities and params that name their source (\`from:\`)
+                                  from an ngspice operating point (raw file of an .op); --preview shows the diff
 
 what to check
   --config PATH            settings from PATH instead of the nearest polecheck.yaml

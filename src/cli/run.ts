@@ -21,6 +21,7 @@ import { type Output, OutputError, loadWriters, outputFrom } from './output';
 import { type Plan, checkInThread } from './plan';
 import { checkInWorkers } from './pool';
 import { writeFixes } from './write';
+import { runSync } from '../sync/sync';
 
 export interface MainIO {
   stdout: (s: string) => void;
@@ -37,6 +38,7 @@ export type Prepared = Plan | { kind: 'schema'; which: 'spec' | 'config' } | { k
 
 /** Parses the arguments and does what needs no file: help, version, rules, explain. Returns the exit status when done. */
 export function prepare(argv: string[], io: MainIO): Prepared | number {
+  if (argv[0] === 'sync') return runSync(argv.slice(1), io);
   let o: Options;
   try {
     o = parseArgs(argv);

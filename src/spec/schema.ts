@@ -2,18 +2,20 @@
 // of every key or value that does not fit the format (SPEC-FORMAT §2).
 
 import type { Finding } from '../findings';
-import { type Kind, KIND_EXAMPLE, KIND_NOUN, parseQuantity, parseTolerance } from '../quantity';
+import { DISPLAY_UNIT, type Kind, KIND_EXAMPLE, KIND_NOUN, formatQuantity, parseQuantity, parseTolerance } from '../quantity';
 import { TOPOLOGIES } from '../topologies';
 import { STEP_INPUT, betaFromGain } from '../topologies/common';
 import { ELEMENT_KINDS, ELEMENT_NOISE, type ElementKind, type ElementNoise, type NetworkDef, type NetworkElementDef, checkStructure, networkTopology } from '../topologies/network';
 import type { ClaimArg, ClaimSpec, KeySpec, Topology, Values } from '../topologies/types';
 import { parseGain } from './closed-loop-conditions';
+import { type Pending, derive, formatKeyValue, pendingEntry, readDesign, readFrom, relateFindings } from './design';
+import { KIND_DIMS, describeDims, looksLikeExpression, spiceHint } from './expressions';
 import { nearest } from './nearest';
 import type { Pos } from './position';
 import type { ClaimEntry, QuantityAt, Spec, ValueEntry, Waiver } from './types';
 import type { YEntry, YMap, YNode } from './yaml';
 
-export const TOP_KEYS = ['polecheck', 'block', 'title', 'topology', 'network', 'params', 'conditions', 'claims', 'waivers'] as const;
+export const TOP_KEYS = ['polecheck', 'block', 'title', 'topology', 'network', 'design', 'params', 'conditions', 'claims', 'waivers'] as const;
 const BOUND_KEYS = ['min', 'typ', 'max'] as const;
 export const FORMAT_VERSION = 1;
 
@@ -21,6 +23,9 @@ class Collector {
   findings: Finding[] = [];
   error(rule: string, pos: Pos, message: string, suggestions: string[] = [], claim: string | null = null): void {
     this.findings.push({ rule, severity: 'error', line: pos.line, column: pos.column, claim, message, suggestions });
+  }
+  note(rule: string, pos: Pos, message: string): void {
+    this.findings.push({ rule, severity: 'note', line: pos.line, column: pos.column, claim: null, message, suggestions: [] });
   }
   unknownKey(pos: Pos, key: string, where: string, valid: readonly string[]): void {
     const near = nearest(key, valid);
@@ -51,6 +56,12 @@ function quantityAt(c: Collector, node: YNode, kind: Kind, key: string, claim: s
     // The place of the problem in the file: inside the written text, or at the
     // alias that stands for text written elsewhere.
     const at = node.aliased ? node.pos : node.at ? node.at(r.offset) : { ...node.pos, column: node.pos.column + (node.plain ? r.offset : r.offset + 1) };
+    // `2meg`, `10k`, `1.5p`: a SPICE habit, said as such.
+    const spice = kind === 'ratio' || kind === 'gain' || kind === 'angle' ? undefined : spiceHint(node.text, DISPLAY_UNIT[kind]);
+    if (spice) {
+      c.error('wrong-unit', node.pos, `\`${key}: ${clip(node.text)}\` ${spice.message.replace(/^`[^`]*` /, '')}`, [`write \`${spice.write}\``], claim);
+      return undefined;
+    }
     c.error('wrong-unit', at, `\`${key}: ${clip(node.text)}\`: ${r.message}`, r.hint ? [`write \`${r.hint}\``] : [], claim);
     return undefined;
   }
@@ -62,22 +73,30 @@ export const VALUE_LIMITS: [number, number] = [1e-30, 1e30];
 
 function checkPhysical(c: Collector, spec: KeySpec, q: QuantityAt): boolean {
   const v = q.quantity.value;
+  // An expression is quoted with its value.
+  const got = q.quantity.written.number === '' && q.quantity.written.style === 'si' && q.quantity.written.text !== '' ? `${q.quantity.written.text}\` = ${formatQuantity(v, spec.kind)}` : `${q.quantity.written.text}\``;
   if (v !== 0 && Number.isFinite(v) && (Math.abs(v) < VALUE_LIMITS[0] || Math.abs(v) > VALUE_LIMITS[1])) {
-    c.error('invalid-value', q.pos, `\`${spec.key}: ${q.quantity.written.text}\` is outside the range polecheck computes with (${VALUE_LIMITS[0]} to ${VALUE_LIMITS[1]} in SI units)`);
+    c.error('invalid-value', q.pos, `\`${spec.key}: ${got} is outside the range polecheck computes with (${VALUE_LIMITS[0]} to ${VALUE_LIMITS[1]} in SI units)`);
     return false;
   }
   if ((v < 0 && !spec.allowNegative) || (v === 0 && !spec.allowZero)) {
-    c.error('invalid-value', q.pos, `\`${spec.key}\` (${spec.description}) must be ${spec.allowZero ? 'zero or positive' : 'positive'}; got \`${q.quantity.written.text}\``);
+    c.error('invalid-value', q.pos, `\`${spec.key}\` (${spec.description}) must be ${spec.allowZero ? 'zero or positive' : 'positive'}; got \`${got}`);
     return false;
   }
   if (spec.max !== undefined && v > spec.max) {
-    c.error('invalid-value', q.pos, `\`${spec.key}\` (${spec.description}) cannot exceed ${spec.max}; got \`${q.quantity.written.text}\``);
+    c.error('invalid-value', q.pos, `\`${spec.key}\` (${spec.description}) cannot exceed ${spec.max}; got \`${got}`);
     return false;
   }
   return true;
 }
 
-function readValues(c: Collector, node: YNode | undefined, specs: KeySpec[], where: string): Map<string, ValueEntry> {
+/** What the reader needs to recognise an expression: the spec's names, and where pending ones go. */
+interface ExprContext {
+  names: ReadonlySet<string>;
+  pending: Pending[];
+}
+
+function readValues(c: Collector, node: YNode | undefined, specs: KeySpec[], where: string, ex?: ExprContext): Map<string, ValueEntry> {
   const out = new Map<string, ValueEntry>();
   if (!node) return out;
   if (node.kind !== 'map') {
@@ -92,6 +111,12 @@ function readValues(c: Collector, node: YNode | undefined, specs: KeySpec[], whe
       continue;
     }
     if (out.has(e.key)) continue; // YAML itself rejects duplicates
+    const v = e.value;
+    if (ex && (where === 'params' || where === 'conditions') && v.kind === 'scalar' && !parseQuantity(v.text, spec.kind).ok && !parseTolerance(v.text, spec.kind) && !(spec.open && v.text.trim().toLowerCase() === 'open') && looksLikeExpression(v.text, ex.names)) {
+      // Computed once every value is read (design.ts).
+      ex.pending.push({ entry: pendingEntry(e, spec, v), node: v, where });
+      continue;
+    }
     const entry = readValue(c, e, spec);
     if (entry) out.set(e.key, entry);
   }
@@ -107,9 +132,15 @@ function readValue(c: Collector, e: YEntry, spec: KeySpec): ValueEntry | undefin
   if (v.kind === 'map') {
     const bounds: Partial<Record<(typeof BOUND_KEYS)[number], QuantityAt>> = {};
     let ok = true;
+    let from: ValueEntry['from'];
     for (const b of v.entries) {
+      if (b.key === 'from') {
+        from = readFrom(c, b);
+        if (!from) ok = false;
+        continue;
+      }
       if (!(BOUND_KEYS as readonly string[]).includes(b.key)) {
-        c.unknownKey(b.keyPos, b.key, `the range of \`${e.key}\``, BOUND_KEYS);
+        c.unknownKey(b.keyPos, b.key, `the range of \`${e.key}\``, [...BOUND_KEYS, 'from']);
         ok = false;
         continue;
       }
@@ -120,7 +151,8 @@ function readValue(c: Collector, e: YEntry, spec: KeySpec): ValueEntry | undefin
     if (!ok) return undefined;
     const { min, typ, max } = bounds;
     if (!min && !max && !typ) {
-      c.error('invalid-value', v.pos, `the range of \`${e.key}\` needs at least one of min, typ, max`);
+      if (from) c.error('missing-value', e.keyPos, `\`${e.key}\` takes its value from \`${from.text}\`, not imported yet: run \`polecheck sync\` on this spec with \`--raw\` and the simulator's operating point`);
+      else c.error('invalid-value', v.pos, `the range of \`${e.key}\` needs at least one of min, typ, max`);
       return undefined;
     }
     if (min && max && min.quantity.value > max.quantity.value) {
@@ -131,7 +163,7 @@ function readValue(c: Collector, e: YEntry, spec: KeySpec): ValueEntry | undefin
       c.error('invalid-value', typ.pos, `the typical value of \`${e.key}\` lies outside its range`);
       return undefined;
     }
-    if (typ) return { key: e.key, keyPos: e.keyPos, spec, typ, min, max };
+    if (typ) return { key: e.key, keyPos: e.keyPos, spec, typ, min, max, ...(from ? { from } : {}) };
     if (min && max) {
       const mid = { quantity: { ...min.quantity, value: (min.quantity.value + max.quantity.value) / 2 }, pos: min.pos };
       return { key: e.key, keyPos: e.keyPos, spec, typ: mid, min, max, typIsMidpoint: true };
@@ -370,6 +402,46 @@ function readNetwork(c: Collector, entry: YEntry): { topology: Topology; values:
   return { topology: networkTopology(def), values: { kind: 'map', entries: values, pos: elementsNode.pos } };
 }
 
+/**
+ * A design quantity named like a param or condition of the topology stands
+ * for it (`i1: 20 µA` under `design:` is the first stage's bias current):
+ * it moves to `params`/`conditions`, unless those give the key as well.
+ * Returns the design quantities that remain.
+ */
+function standFor(c: Collector, d: { entries: Map<string, ValueEntry>; pending: Pending[] }, params: Map<string, ValueEntry>, conditions: Map<string, ValueEntry>, topology: Topology, paramKeys: string[], conditionKeys: string[]): Map<string, ValueEntry> {
+  const rest = new Map<string, ValueEntry>();
+  const all = [...d.entries.values(), ...d.pending.map((p) => p.entry)];
+  for (const e of all) {
+    const spec = topology.params.find((k) => k.key === e.key) ?? topology.conditions.find((k) => k.key === e.key);
+    if (!spec) {
+      if (d.entries.has(e.key)) rest.set(e.key, e);
+      continue;
+    }
+    const where = topology.params.includes(spec) ? 'params' : 'conditions';
+    if ((where === 'params' ? paramKeys : conditionKeys).includes(e.key)) {
+      c.error('design', e.keyPos, `\`${e.key}\` is given twice, under \`design:\` and under \`${where}:\`; keep one`);
+      d.pending.splice(d.pending.findIndex((p) => p.entry === e), d.pending.some((p) => p.entry === e) ? 1 : 0);
+      continue;
+    }
+    const pending = d.pending.find((p) => p.entry === e);
+    e.spec = spec;
+    e.design = true;
+    if (pending) {
+      pending.where = where;
+      e.typ = { ...e.typ, quantity: { ...e.typ.quantity, kind: spec.kind } };
+      continue;
+    }
+    if (e.dims && KIND_DIMS[spec.kind] && describeDims(e.dims) !== describeDims(KIND_DIMS[spec.kind]!)) {
+      c.error('wrong-unit', e.typ.pos, `\`${e.key}\` stands for the ${where === 'params' ? 'param' : 'condition'} \`${e.key}\` (${spec.description}), which is ${describeDims(KIND_DIMS[spec.kind]!)}; this is ${describeDims(e.dims)}`);
+      continue;
+    }
+    for (const q of [e.typ, e.min, e.max]) if (q) q.quantity = { ...q.quantity, kind: spec.kind };
+    if (![e.typ, e.min, e.max].every((q) => !q || checkPhysical(c, spec, q))) continue;
+    (where === 'params' ? params : conditions).set(e.key, e);
+  }
+  return rest;
+}
+
 /** One supply: `supply`, or the rails `vdd` (and `vss`), the positive rail above the negative. */
 function checkSupply(c: Collector, conditions: Map<string, ValueEntry>): void {
   const supply = conditions.get('supply');
@@ -539,14 +611,31 @@ export function readSpec(path: string, root: YMap, start: Pos): { spec: Spec | n
     return { spec: null, findings: c.findings };
   }
   const paramsEntry = topoName === 'network' ? get('network') : get('params');
-  const params = readValues(c, paramsNode, topology.params, topoName === 'network' ? 'network.elements' : 'params');
-  const conditions = readValues(c, get('conditions')?.value, topology.conditions, 'conditions');
+  // Design quantities, and values written as expressions over them and over each other.
+  const designRead = readDesign(c, get('design')?.value);
+  const conditionsNode = get('conditions')?.value;
+  const keysOf = (n: YNode | undefined) => (n?.kind === 'map' ? n.entries.map((e) => e.key) : []);
+  const names = new Set([...designRead.entries.keys(), ...designRead.pending.map((p) => p.entry.key), ...keysOf(paramsNode), ...keysOf(conditionsNode)]);
+  const ex: ExprContext = { names, pending: [] };
+  const params = readValues(c, paramsNode, topology.params, topoName === 'network' ? 'network.elements' : 'params', ex);
+  const conditions = readValues(c, conditionsNode, topology.conditions, 'conditions', ex);
+  const design = standFor(c, designRead, params, conditions, topology, keysOf(paramsNode), keysOf(conditionsNode));
+  const pendingAll = [...designRead.pending, ...ex.pending];
+  const derived = derive(c, { topology, design, params, conditions, pending: pendingAll, checkValue: (spec, q) => checkPhysical(c, spec, q) });
+  if (pendingAll.length) {
+    // A reader's error at an expression (a value out of range) names what the expression uses, too.
+    const valueOf = (name: string): string => {
+      const e = design.get(name) ?? params.get(name) ?? conditions.get(name) ?? pendingAll.find((p) => p.entry.key === name)?.entry;
+      return e && Number.isFinite(e.typ.quantity.value) ? formatKeyValue({ topology, design, params } as Spec, name, e.typ.quantity.value) : 'no value';
+    };
+    relateFindings(c.findings, pendingAll.map((p) => p.entry), valueOf);
+  }
   checkSupply(c, conditions);
   checkGain(c, conditions, topology);
   const claims = readClaims(c, get('claims')?.value, topology);
   const paramsPos = paramsEntry?.keyPos ?? topo.keyPos;
 
-  const written = new Set(paramsNode?.kind === 'map' ? paramsNode.entries.map((e) => e.key) : []);
+  const written = new Set([...(paramsNode?.kind === 'map' ? paramsNode.entries.map((e) => e.key) : []), ...[...params.values()].filter((e) => e.design).map((e) => e.key)]);
   const paramsUnreadable = paramsNode !== undefined && paramsNode.kind !== 'map';
   for (const p of topology.params) {
     // A param that is written but unreadable has its own error already, and so has a `params:` that is no mapping.
@@ -567,7 +656,7 @@ export function readSpec(path: string, root: YMap, start: Pos): { spec: Spec | n
   // A spec whose required params are missing or unreadable cannot be evaluated.
   const complete = topology.params.every((p) => !p.required || params.has(p.key));
   const spec: Spec | null = complete
-    ? { path, block, title, topology, topologyPos: topo.value.pos, params, conditions, claims, start, paramsPos, waivers: readWaivers(c, get('waivers')) }
+    ? { path, block, title, topology, topologyPos: topo.value.pos, params, conditions, claims, start, paramsPos, waivers: readWaivers(c, get('waivers')), ...(design.size ? { design } : {}), ...(derived ? { derived } : {}) }
     : null;
   return { spec, findings: c.findings };
 }

@@ -1,4 +1,6 @@
 import type { Quantity } from '../quantity';
+import type { Derivation } from './design';
+import type { Dims } from './expressions';
 import type { ClaimSpec, KeySpec, Topology, Values } from '../topologies/types';
 import type { LineIndex, Pos } from './position';
 
@@ -27,6 +29,14 @@ export interface ValueEntry {
   tolerance?: boolean;
   /** `rl: open`: the element is absent. */
   open?: boolean;
+  /** Written as an expression (`gm1: 2 * i1 / vov1`): `typ` is its value at the typical point, recomputed wherever what it uses changes. */
+  expression?: { text: string; uses: Array<{ name: string; pos: Pos; at: Pos }> };
+  /** `from: "@m1[gm]"`: the simulator vectors `polecheck sync` takes the value from. */
+  from?: { text: string; pos: Pos; keyPos: Pos };
+  /** Written under `design:` (a design quantity named like the param or condition it stands for). */
+  design?: boolean;
+  /** A design quantity's dimension (exponents of A, V, s). */
+  dims?: Dims;
 }
 
 /** A table row's own operating point: condition values that replace the front matter's. */
@@ -78,6 +88,10 @@ export interface Spec {
   /** Position of the `params:` key, for findings about missing params. */
   paramsPos: Pos;
   waivers: Waiver[];
+  /** Design quantities (`design:`) other than those named like a param or condition, which stand for it in `params`/`conditions`. */
+  design?: Map<string, ValueEntry>;
+  /** How values written as expressions are recomputed; absent when the spec has none. */
+  derived?: Derivation;
   /** Offsets → lines and columns of the text as read, for the edits a restatement proposes. */
   lines?: LineIndex;
 }

@@ -159,9 +159,10 @@ describe('custom tags: refused at the tag, never constructed or run', () => {
     expect(probe()).toBeUndefined();
   });
 
-  it('a value that only looks like code is plain text: reported as a wrong unit, not run', () => {
+  it('a value that only looks like code is never run: the expression reader refuses it at its place', () => {
     const r = check(edit(6, `  gm: function () { ${setProbe} }`));
-    expectOnly(r, { rule: 'wrong-unit', severity: 'error', line: 6, column: 7, message: 'expected a number at `function`' });
+    // Read as an expression (it holds parentheses) and refused by mathjs's parser at the `{`.
+    expectOnly(r, { rule: 'expression', severity: 'error', line: 6, column: 20, message: 'cannot read the expression' });
     expect(probe()).toBeUndefined();
   });
 

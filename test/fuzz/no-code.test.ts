@@ -1,11 +1,14 @@
-// No expression in a document is ever evaluated. Values are parsed by
-// polecheck's own quantity grammar (a number, a unit); anything else is a
-// wrong unit at its place, and code-like text stays text (a global probe
-// proves nothing ran). mathjs, which has a general expression evaluator, is
-// only ever imported lazily by describeUnknownUnit: no static import in the
-// sources, and in the bundle it lives outside the start-up module graph (a
-// lazily loaded chunk, if at all) and is not loaded by a check. Command-line
-// values are not passed on to git as options.
+// No code in a document is ever run. Values are read by polecheck's own
+// quantity grammar (a number, a unit) or, when they hold an operator or a name
+// of the spec, as an expression: parsed by mathjs's parser (only the parser,
+// built with create() in its own chunk) and evaluated by polecheck from a
+// whitelist of node types — numbers, units, names of the spec, + - * / ^,
+// parentheses, ∥, sqrt, min, max, abs. Every other capability of mathjs
+// (evaluate, import, createUnit, function definitions, assignment, property
+// access, matrices, indexing, conditionals, ranges, comparisons, logic, bit
+// operations, unit conversion, text) is an error at its place, and a global
+// probe proves nothing ran. Command-line values are not passed on to git as
+// options.
 
 import { execFileSync, spawnSync } from 'node:child_process';
 import { existsSync, mkdirSync, mkdtempSync, readFileSync, readdirSync, rmSync, statSync, symlinkSync, writeFileSync } from 'node:fs';
@@ -26,43 +29,80 @@ beforeEach(() => {
 // A clean single-stage spec; line 6 is the value under test.
 const doc = (gm: string) => ['---', 'polecheck: 1', 'topology: single-stage', 'params:', '  rout: 8 MΩ', `  gm: ${gm}`, '  cout: 150 fF', 'conditions:', '  cl: 3 pF', 'claims:', '  dc_gain: 76 dB', '---', ''].join('\n');
 
-describe('code-like values are text: reported as wrong units, never run', () => {
+describe('code-like values are never run: reported at their place', () => {
   const set = `globalThis.${PROBE} = 1`;
-  // [value as written, column of the finding, message fragment]
-  const cases: Array<[string, number, string]> = [
-    ['evaluate("1+1")', 7, 'expected a number at `evaluate("1+1")`'],
-    ['evaluate("800 uS")', 7, 'expected a number at `evaluate("800`'],
-    ['${process.exit(1)}', 7, 'expected a number at `${process.exit(1)}`'],
-    [`\${${set}}`, 7, 'expected a number at'],
-    ["require('fs')", 7, "expected a number at `require('fs')`"],
-    ["import('fs')", 7, "expected a number at `import('fs')`"],
-    ["eval('1')", 7, "expected a number at `eval('1')`"],
-    [`Function('${set}')()`, 7, 'expected a number at'],
-    ["createUnit('polecheck')", 7, "expected a number at `createUnit('polecheck')`"],
-    ['constructor.constructor("return process")()', 7, 'expected a number at'],
-    ['800 µS; process.exit(1)', 13, 'unexpected `;` after `800 µS`'],
-    ["800 require('fs')", 11, "unknown unit `require('fs')`"],
-    ['800 evaluate', 11, 'unknown unit `evaluate`'],
-    ['800 createUnit', 11, 'unknown unit `createUnit`'],
+  // [value as written, rule, column of the finding, message fragment]
+  const cases: Array<[string, string, number, string]> = [
+    ['evaluate("1+1")', 'expression', 7, '`evaluate` is not a function expressions may use'],
+    ['evaluate("800 uS")', 'expression', 7, '`evaluate` is not a function expressions may use'],
+    ['${process.exit(1)}', 'expression', 9, 'cannot read the expression'],
+    [`\${${set}}`, 'wrong-unit', 7, 'expected a number at'],
+    ["require('fs')", 'expression', 7, '`require` is not a function expressions may use'],
+    ["import('fs')", 'expression', 7, '`import` is not a function expressions may use'],
+    ["eval('1')", 'expression', 7, '`eval` is not a function expressions may use'],
+    [`Function('${set}')()`, 'expression', 58, 'cannot read the expression'],
+    ["createUnit('polecheck')", 'expression', 7, '`createUnit` is not a function expressions may use'],
+    ['createUnit("q") * 1 S', 'expression', 7, '`createUnit` is not a function expressions may use'],
+    ['constructor.constructor("return process")()', 'expression', 50, 'cannot read the expression'],
+    ['800 µS; process.exit(1)', 'expression', 13, 'several statements are not available'],
+    ["800 require('fs')", 'expression', 11, '`require` is not a function expressions may use'],
+    ['800 evaluate', 'wrong-unit', 11, 'unknown unit `evaluate`'],
+    ['800 createUnit', 'wrong-unit', 11, 'unknown unit `createUnit`'],
+    // The rest of what mathjs can do, each outside the whitelist.
+    ['f(x) = x', 'expression', 12, 'function definitions are not available'],
+    ['rout.constructor', 'expression', 11, 'property access or indexing is not available'],
+    ['cout.value', 'expression', 11, 'property access or indexing is not available'],
+    ['rout[1]', 'expression', 7, 'property access or indexing is not available'],
+    ['matrix([1])', 'expression', 7, '`matrix` is not a function expressions may use'],
+    ['simplify("x")', 'expression', 7, '`simplify` is not a function expressions may use'],
+    ['derivative("x^2", "x")', 'expression', 7, '`derivative` is not a function expressions may use'],
+    ['parse("1")', 'expression', 7, '`parse` is not a function expressions may use'],
+    ['compile("1")', 'expression', 7, '`compile` is not a function expressions may use'],
+    ['config({})', 'expression', 7, '`config` is not a function expressions may use'],
+    ['typed("x")', 'expression', 7, '`typed` is not a function expressions may use'],
+    ["rout'", 'expression', 11, 'the operator `\'` is not available'],
+    ['rout > 1 ohm', 'expression', 12, 'the operator `>` is not available'],
+    ['rout / rout mod 1 S', 'expression', 19, 'the operator `mod` is not available'],
+    ['rout / rout to S', 'expression', 19, 'the operator `to` is not available'],
+    ['1 S * (rout and 1)', 'expression', 19, 'the operator `and` is not available'],
+    ['1 S * (rout & 1)', 'expression', 19, 'the operator `&` is not available'],
+    ['1 S * [rout, 1]', 'expression', 13, 'matrices and lists are not available'],
+    ["'1 S * (rout ? 1 : 2)'", 'expression', 20, 'conditionals are not available'],
+    ['1 S * (1:3)', 'expression', 15, 'ranges are not available'],
+    ['1 S * (x = rout)', 'expression', 16, 'assignment is not available'],
+    ['1 S * (rout == 1)', 'expression', 19, 'the operator `==` is not available'],
+    ['e * 1 µS', 'wrong-unit', 7, 'unknown name `e`'],
+    ['pi * 1 µS', 'wrong-unit', 7, 'unknown name `pi`'],
+    ['1 S * "800"', 'expression', 13, 'text in quotes is not a value'],
   ];
-  it.each(cases)('gm: %s', (value, column, message) => {
+  it.each(cases)('gm: %s', (value, rule, column, message) => {
     const r = checkText('no-code.md', doc(value));
-    expect(r.findings.map((f) => [f.rule, f.severity, f.line, f.column])).toEqual([['wrong-unit', 'error', 6, column]]);
+    expect(r.findings.filter((f) => f.claim === null).map((f) => [f.rule, f.severity, f.line, f.column])).toEqual([[rule, 'error', 6, column]]);
     expect(r.findings[0].message).toContain(message);
     expect(probe()).toBeUndefined();
   });
 
-  // Expressions mathjs would evaluate to a valid conductance are not arithmetic to polecheck.
-  const arithmetic: Array<[string, number, string]> = [
-    ['2*400 µS', 8, 'unknown unit `*400`'],
-    ['400 µS + 400 µS', 14, 'unexpected `+`'],
-    ['0.8 mS to µS', 14, 'unexpected `to`'],
-    ['sqrt(640000) µS', 7, 'expected a number at `sqrt(640000)`'],
-    ['800e-6 S * 1', 16, 'unexpected `*`'],
-    ['(800) µS', 7, 'expected a number at `(800)`'],
-    ['pi mS', 7, 'expected a number at `pi`'],
+  // What mathjs would compute, polecheck computes itself with units and dimensions.
+  const arithmetic: Array<[string, number]> = [
+    ['2*400 µS', 800e-6],
+    ['400 µS + 400 µS', 800e-6],
+    ['sqrt(640000) µS', 800e-6],
+    ['800e-6 S * 1', 800e-6],
+    ['(800) µS', 800e-6],
   ];
-  it.each(arithmetic)('gm: %s is not computed', (value, column, message) => {
+  it.each(arithmetic)('gm: %s is computed by the whitelist evaluator', (value, want) => {
+    const r = checkText('no-code.md', doc(value));
+    expect(r.findings.filter((f) => f.claim === null)).toEqual([]);
+    expect(r.spec?.params.get('gm')?.typ.quantity.value).toBeCloseTo(want, 15);
+  });
+
+  // Text that is no expression keeps the quantity reader's error.
+  const plain: Array<[string, number, string]> = [
+    ['0.8 mS to µS', 14, 'unexpected `to`'],
+    ['pi mS', 7, 'expected a number at `pi`'],
+    ['800 µS == 800 µS', 14, 'unexpected `==`'],
+  ];
+  it.each(plain)('gm: %s', (value, column, message) => {
     const r = checkText('no-code.md', doc(value));
     expect(r.findings.map((f) => [f.rule, f.severity, f.line, f.column])).toEqual([['wrong-unit', 'error', 6, column]]);
     expect(r.findings[0].message).toContain(message);
@@ -110,7 +150,7 @@ function code(text: string): string {
     .replace(/(^|[^:\\])\/\/.*$/gm, '$1');
 }
 
-describe('the sources import mathjs lazily, and only in describeUnknownUnit', () => {
+describe('the sources load mathjs lazily: its parser in one chunk, and describeUnknownUnit', () => {
   const files = [...sourceFiles(join(ROOT, 'src')), ...sourceFiles(join(ROOT, 'rules'))];
   const rel = (p: string) => relative(ROOT, p).split('\\').join('/');
 
@@ -119,25 +159,21 @@ describe('the sources import mathjs lazily, and only in describeUnknownUnit', ()
     expect(files.length).toBeGreaterThan(30);
   });
 
-  it('no static import or require of mathjs anywhere', () => {
+  it('the one static import of mathjs is the parser chunk, which no source imports', () => {
     const offenders = files.filter((f) => {
       const c = code(readFileSync(f, 'utf8'));
       return /\bimport\s[^;()]*?from\s*['"]mathjs(\/[^'"]*)?['"]/.test(c) || /\bimport\s*['"]mathjs/.test(c) || /\brequire\s*\(\s*['"]mathjs/.test(c) || /\bexport\s[^;]*from\s*['"]mathjs/.test(c);
     });
-    expect(offenders.map(rel)).toEqual([]);
-  });
-
-  it('the one dynamic import is in src/quantity/parse.ts, inside describeUnknownUnit', () => {
-    const dynamic = files.filter((f) => /(?<!typeof\s)\bimport\s*\(\s*['"]mathjs['"]\s*\)(?!\s*\.)/.test(code(readFileSync(f, 'utf8')).replace(/typeof import\(['"]mathjs['"]\)/g, '').replace(/import\(['"]mathjs['"]\)\.\w+/g, '')));
-    expect(dynamic.map(rel)).toEqual(['src/quantity/parse.ts']);
-    const parse = code(readFileSync(join(ROOT, 'src/quantity/parse.ts'), 'utf8'));
-    const fn = parse.slice(parse.indexOf('export async function describeUnknownUnit'));
-    expect(fn.length).toBeLessThan(parse.length);
-    const body = fn.slice(0, fn.indexOf('\n}\n') + 2);
-    expect(body).toMatch(/import\(\s*['"]mathjs['"]\s*\)/);
-    // Outside that function the module mentions mathjs only in type positions.
-    const rest = parse.replace(body, '').replace(/typeof import\(['"]mathjs['"]\)/g, '').replace(/import\(['"]mathjs['"]\)\.\w+/g, '');
-    expect(rest).not.toMatch(/import\(\s*['"]mathjs['"]\s*\)/);
+    expect(offenders.map(rel)).toEqual(['src/spec/mathjs-parser.ts']);
+    const chunk = code(readFileSync(join(ROOT, 'src/spec/mathjs-parser.ts'), 'utf8'));
+    expect(chunk).toMatch(/import \{ create, parseDependencies \} from 'mathjs'/);
+    expect(chunk).toMatch(/create\(\{ parseDependencies \}, \{\}\)\.parse/);
+    expect(files.filter((f) => /mathjs-parser/.test(code(readFileSync(f, 'utf8')))).map(rel)).toEqual([]);
+    // expressions.ts requires the chunk (or, from the sources, the package) inside mathParse only.
+    const ex = code(readFileSync(join(ROOT, 'src/spec/expressions.ts'), 'utf8'));
+    const body = ex.slice(ex.indexOf('function mathParse'), ex.indexOf('\n}\n', ex.indexOf('function mathParse')));
+    expect(body).toMatch(/req\('mathjs'\)/);
+    expect(ex.replace(body, '')).not.toMatch(/req\(/);
   });
 
   it('no general-purpose evaluator in the sources: no eval, new Function, vm, or shell', () => {
@@ -216,6 +252,50 @@ describe('the bundle (scripts/build.mjs): mathjs is not in the start-up module g
     expect(loaded.length).toBeGreaterThan(0);
     const withMath = loaded.filter((u) => MATHJS.test(read(fileURLToPath(u))));
     expect(withMath).toEqual([]);
+  });
+});
+
+describe('the expression chunk (dist/expr.cjs) of the bundle', () => {
+  let dir: string;
+  beforeAll(() => {
+    dir = mkdtempSync(join(tmpdir(), 'polecheck-expr-'));
+    for (const name of ['src', 'rules', 'node_modules', 'package.json', 'README.md']) symlinkSync(join(ROOT, name), join(dir, name));
+    execFileSync(process.execPath, [join(ROOT, 'scripts', 'build.mjs')], { cwd: dir, stdio: 'pipe' });
+    // CommonJS loads (the bundle requires the chunk) are logged by a preloaded hook.
+    writeFileSync(join(dir, 'log-require.cjs'), "const M = require('node:module'); const fs = require('node:fs'); const load = M._load; M._load = function (request, parent, isMain) { const out = load.apply(this, arguments); try { fs.appendFileSync(process.env.POLECHECK_LOAD_LOG, M._resolveFilename(request, parent, isMain) + '\\n'); } catch {} return out; };\n");
+  }, 120_000);
+  afterAll(() => {
+    if (dir) rmSync(dir, { recursive: true, force: true });
+  });
+  const run = (text: string) => {
+    const specs = mkdtempSync(join(dir, 'specs-'));
+    writeFileSync(join(specs, 'a.md'), text);
+    const log = join(specs, 'loaded.txt');
+    writeFileSync(log, '');
+    const r = spawnSync(process.execPath, ['--require', join(dir, 'log-require.cjs'), join(dir, 'dist', 'polecheck.js'), '--format', 'json', specs], { env: { ...process.env, POLECHECK_LOAD_LOG: log, NO_COLOR: '1', POLECHECK_WORKERS: '0' }, encoding: 'utf8' });
+    return { r, loaded: readFileSync(log, 'utf8').split('\n').filter(Boolean) };
+  };
+
+  it('holds the parser, and the main bundle does not', () => {
+    expect(readFileSync(join(dir, 'dist', 'expr.cjs'), 'utf8')).toMatch(/node_modules\/mathjs\//);
+    expect(readFileSync(join(dir, 'dist', 'polecheck.cjs'), 'utf8')).not.toMatch(/node_modules\/mathjs\//);
+  });
+
+  it('a plain spec does not load it; a spec with an expression does, and checks', () => {
+    const plain = run(doc('800 µS'));
+    expect(plain.r.status, plain.r.stderr).toBe(0);
+    // The hook sees the process's CommonJS loads (Node's own modules at least).
+    expect(plain.loaded.length).toBeGreaterThan(0);
+    expect(plain.loaded.filter((f) => f.endsWith('expr.cjs'))).toEqual([]);
+    const expr = run(doc('2 * 400 µS'));
+    expect(expr.loaded.filter((f) => f.endsWith('expr.cjs')), expr.r.stdout + expr.r.stderr + expr.loaded.join(' ')).toHaveLength(1);
+    const out = JSON.parse(expr.r.stdout) as { files: Array<{ findings: Array<{ rule: string; claim: string | null }> }> };
+    // The same findings as the plain spec: gm is 800 µS either way.
+    expect(out.files[0].findings.map((f) => [f.rule, f.claim])).toEqual((JSON.parse(plain.r.stdout) as typeof out).files[0].findings.map((f) => [f.rule, f.claim]));
+    const hostile = run(doc("createUnit('x') * 1 S"));
+    expect(hostile.r.status).toBe(1);
+    expect(hostile.r.stdout).toContain('is not a function expressions may use');
+    expect(probe()).toBeUndefined();
   });
 });
 
