@@ -26,6 +26,6 @@ export function main(argv: string[], io: MainIO): number {
   const plan = prepare(argv, io);
   if (typeof plan === 'number') return plan;
   if (plan.kind === 'schema') return printSchema(plan.which, io, schemaJson);
-  const output = outputFrom(plan.o, plan.color, WRITERS);
+  const output = outputFrom(plan.o, plan.color, WRITERS, plan.cwd);
   return finish(plan, checkInThread(plan, output.section), output, io);
 }

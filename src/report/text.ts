@@ -26,7 +26,13 @@ export function printable(s: string): string {
 
 const pad = (s: string, n: number): string => s + ' '.repeat(Math.max(0, n - [...s].length));
 
-export function textReport(results: SheetResult[], p: Paint, opts: { errorsOnly?: boolean } = {}): string {
+export interface TextOptions {
+  errorsOnly?: boolean;
+  /** --warnings-allowed: the tally says when the warnings are more than this. */
+  warningsAllowed?: number;
+}
+
+export function textReport(results: SheetResult[], p: Paint, opts: TextOptions = {}): string {
   const lines: string[] = [];
   let blocks = 0;
   let claims = 0;
@@ -102,8 +108,11 @@ export function textReport(results: SheetResult[], p: Paint, opts: { errorsOnly?
   const s = summarize(results);
   const n = (k: number, one: string, many = `${one}s`) => `${k} ${k === 1 ? one : many}`;
   const others = s.errors - failing;
-  const tally = `${n(blocks, 'block')}, ${n(claims, 'claim')}: ${failing} fail, ${thin} thin; ${n(s.warnings - thin, 'warning')}${others > 0 ? `, ${n(others, 'other error')}` : ''}${s.waived ? `, ${s.waived} waived` : ''}`;
-  lines.push(s.errors ? p.red(tally) : s.warnings ? p.yellow(tally) : p.green(tally));
+  const overLimit = opts.warningsAllowed !== undefined && s.warnings > opts.warningsAllowed;
+  // The limit counts every warning, thin claims included.
+  const limit = overLimit ? ` (${s.warnings} in all, more than the ${opts.warningsAllowed} allowed)` : '';
+  const tally = `${n(blocks, 'block')}, ${n(claims, 'claim')}: ${failing} fail, ${thin} thin; ${n(s.warnings - thin, 'warning')}${limit}${others > 0 ? `, ${n(others, 'other error')}` : ''}${s.waived ? `, ${s.waived} waived` : ''}`;
+  lines.push(s.errors || overLimit ? p.red(tally) : s.warnings ? p.yellow(tally) : p.green(tally));
   if (s.files > 0) lines.push(p.dim(CAUTION));
   return `${lines.join('\n')}\n`;
 }
