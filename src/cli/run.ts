@@ -158,7 +158,7 @@ export function finish(plan: Plan, outcomes: Outcome[], output: Output, io: Main
   const text = output.render(outcomes);
   if (o.out) {
     try {
-      writeFileSync(o.out, text);
+      writeFileSync(resolve(plan.cwd, o.out), text);
     } catch (err) {
       io.stderr(`polecheck: cannot write ${o.out}: ${(err as Error).message}\n`);
       return 2;

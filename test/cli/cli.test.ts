@@ -188,6 +188,18 @@ describe('--warnings-allowed N: exit 1 when there are more than N warnings', () 
     expect(run(['--warnings-allowed', '1000', dir]).code).toBe(1);
   });
 
+  it('says why when the warnings are more than allowed: in the tally, or on standard error for the other formats', () => {
+    const dir = folder({ 'slip.md': consistentSpec(SLIPPED_RZ) });
+    const over = run(['--warnings-allowed', '0', dir]);
+    expect(over.out).toMatch(/; 1 warning \(1 in all, more than the 0 allowed\)\n/);
+    expect(over.err).toBe('');
+    expect(run(['--warnings-allowed', '1', dir]).out).not.toMatch(/allowed/);
+    const json = run(['--format', 'json', '--warnings-allowed', '0', dir]);
+    expect(json.code).toBe(1);
+    expect(json.err).toBe('polecheck: 1 warning, more than the 0 allowed (--warnings-allowed)\n');
+    expect(run(['--format', 'json', '--warnings-allowed', '1', dir]).err).toBe('');
+  });
+
   it('warnings of all files count together', () => {
     const dir = folder({ 'a.md': consistentSpec(SLIPPED_RZ), 'b.md': consistentSpec(SLIPPED_RZ) });
     expect(run(['--warnings-allowed', '1', dir]).code).toBe(1);
