@@ -1,0 +1,64 @@
+// The README's pre-commit recipe with the real framework (Debian's
+// `pre-commit`, installed by .ci/run): a scratch design repository whose
+// .pre-commit-config.yaml is the README's, pointed at this repository at its
+// HEAD commit. pre-commit clones it, builds the hook's node environment (npm
+// install, npm pack, npm install -g of the tarball — from the npm registry)
+// and runs the hook on commit: a stale spec is refused with polecheck's
+// findings, a consistent one goes in. What is tested is HEAD, not uncommitted
+// edits.
+import { readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { mkdtempSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, describe, expect, it } from 'vitest';
+import { ADC_DRIVER, consistentSpec, overclaimedGainSpec } from '../cli/fixtures';
+import { designRepository, hasCommand, readmeRecipe, sh, thisRepository } from './support';
+
+const available = hasCommand('pre-commit');
+const here = thisRepository();
+if (!available && !process.env.CI) console.warn('pre-commit not installed: the pre-commit hook test is skipped (apt-get install -y pre-commit); it fails instead when CI is set');
+if ('missing' in here) console.warn(`${here.missing}: the pre-commit hook test is skipped`);
+
+describe.runIf((available || process.env.CI) && !('missing' in here))('the README pre-commit recipe, with the real pre-commit framework', () => {
+  const design = designRepository('polecheck-precommit-');
+  const home = mkdtempSync(join(tmpdir(), 'polecheck-precommit-home-'));
+  afterAll(() => {
+    rmSync(design, { recursive: true, force: true });
+    rmSync(home, { recursive: true, force: true });
+  });
+  const env = { PRE_COMMIT_HOME: home, NO_COLOR: '1' };
+
+  it('refuses a commit of a stale spec with the findings, then takes the consistent spec', () => {
+    const { top, sha } = here as { top: string; sha: string };
+    const recipe = readmeRecipe(readFileSync(join(top, 'README.md'), 'utf8'), 'pre-commit');
+    // The README's config, with this repository and its HEAD in place of the example's.
+    const config = recipe.replace(/(repo: )\S+/, `$1${top}`).replace(/(rev: )[0-9a-f]{40}/, `$1${sha}`);
+    expect(config).toContain(`rev: ${sha}`);
+    expect(config).toContain('id: polecheck');
+    writeFileSync(join(design, '.pre-commit-config.yaml'), config);
+    expect(sh('pre-commit', ['install'], design, env).status).toBe(0);
+    sh('git', ['add', '.pre-commit-config.yaml'], design);
+    // Nothing staged for the hook: it is skipped, and the config goes in.
+    const setup = sh('git', ['commit', '-qm', 'hooks'], design, env);
+    expect(setup.status, setup.out).toBe(0);
+
+    writeFileSync(join(design, 'adc-driver.md'), overclaimedGainSpec(ADC_DRIVER));
+    writeFileSync(join(design, 'notes.md'), '# Bring-up notes\n\nNo spec here.\n');
+    sh('git', ['add', 'adc-driver.md', 'notes.md'], design);
+    const refused = sh('git', ['commit', '-m', 'stale gain claim'], design, env);
+    expect(refused.status, refused.out).not.toBe(0);
+    expect(refused.out).toMatch(/polecheck\.+Failed/);
+    // polecheck's review sheet: the block, the failing claim at its place, the tally.
+    expect(refused.out).toContain(ADC_DRIVER.block);
+    expect(refused.out).toMatch(/ {2}fails {2}dc_gain .* adc-driver\.md:\d+:\d+/);
+    expect(refused.out).toMatch(/1 block, \d+ claims: 1 fail/);
+    expect(sh('git', ['rev-list', '--count', 'HEAD'], design).out.trim()).toBe('1');
+
+    writeFileSync(join(design, 'adc-driver.md'), consistentSpec(ADC_DRIVER));
+    sh('git', ['add', 'adc-driver.md'], design);
+    const taken = sh('git', ['commit', '-m', 'gain claim restated'], design, env);
+    expect(taken.status, taken.out).toBe(0);
+    expect(taken.out).toMatch(/polecheck\.+Passed/);
+    expect(sh('git', ['rev-list', '--count', 'HEAD'], design).out.trim()).toBe('2');
+  }, 240_000);
+});
