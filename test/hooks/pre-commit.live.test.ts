@@ -25,8 +25,10 @@ describe.runIf((available || process.env.CI) && !('missing' in here))('the READM
   afterAll(() => {
     rmSync(design, { recursive: true, force: true });
     rmSync(home, { recursive: true, force: true });
-  });
-  const env = { PRE_COMMIT_HOME: home, NO_COLOR: '1' };
+  }, 60_000);
+  // prefer-offline: npm takes the packages' metadata from its cache when it has them
+  // (CI's `npm ci` has just fetched the same ones), as a developer's machine would.
+  const env = { PRE_COMMIT_HOME: home, NO_COLOR: '1', npm_config_prefer_offline: 'true' };
 
   it('refuses a commit of a stale spec with the findings, then takes the consistent spec', () => {
     const { top, sha } = here as { top: string; sha: string };
