@@ -8,8 +8,8 @@
 import { chmodSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { ADC_DRIVER, BRIDGE_BUFFER, consistentSpec, overclaimedGainSpec } from '../cli/fixtures';
-import { designRepository, readmeRecipe, sh, thisRepository } from './support';
+import { BRIDGE_BUFFER, consistentSpec } from '../cli/fixtures';
+import { designRepository, readmeRecipe, refusedThenTaken, sh, thisRepository } from './support';
 
 const here = thisRepository();
 if ('missing' in here) console.warn(`${here.missing}: the git hook test is skipped`);
@@ -39,21 +39,8 @@ describe.runIf(!('missing' in here))('the README npm install from git and plain 
     const setup = sh('git', ['commit', '-qm', 'polecheck as a devDependency'], design, env);
     expect(setup.status, setup.out).toBe(0);
 
-    // A name with a space: the hook passes names NUL-separated.
-    writeFileSync(join(design, 'adc driver.md'), overclaimedGainSpec(ADC_DRIVER));
+    // A second spec, consistent, goes in with the first; a name with a space, which the hook passes NUL-separated.
     writeFileSync(join(design, 'bridge.md'), consistentSpec(BRIDGE_BUFFER));
-    sh('git', ['add', '.'], design);
-    const refused = sh('git', ['commit', '-m', 'stale gain claim'], design, env);
-    expect(refused.status, refused.out).not.toBe(0);
-    expect(refused.out).toContain(ADC_DRIVER.block);
-    expect(refused.out).toMatch(/ {2}fails {2}dc_gain .* adc driver\.md:\d+:\d+/);
-    expect(refused.out).toMatch(/2 blocks, \d+ claims: 1 fail/);
-    expect(sh('git', ['rev-list', '--count', 'HEAD'], design).out.trim()).toBe('1');
-
-    writeFileSync(join(design, 'adc driver.md'), consistentSpec(ADC_DRIVER));
-    sh('git', ['add', '.'], design);
-    const taken = sh('git', ['commit', '-m', 'specs'], design, env);
-    expect(taken.status, taken.out).toBe(0);
-    expect(sh('git', ['rev-list', '--count', 'HEAD'], design).out.trim()).toBe('2');
+    refusedThenTaken(design, env, 'adc driver.md', '2 blocks');
   }, 240_000);
 });

@@ -2,9 +2,11 @@
 // polecheck from it as a user would, from git at a commit), a scratch design
 // repository, and git and other commands run in it.
 import { spawnSync } from 'node:child_process';
-import { mkdtempSync } from 'node:fs';
+import { mkdtempSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
+import { expect } from 'vitest';
+import { ADC_DRIVER, consistentSpec, overclaimedGainSpec } from '../cli/fixtures';
 
 export interface Ran {
   status: number | null;
@@ -43,4 +45,30 @@ export function readmeRecipe(readme: string, name: string): string {
   const m = readme.match(new RegExp(`<!-- hook recipe: ${name}\\b[^>]*-->\\n\`\`\`\\w*\\n([\\s\\S]*?)\`\`\`\\n`));
   if (!m) throw new Error(`README.md has no hook recipe '${name}'`);
   return m[1];
+}
+
+/**
+ * The hooks' shared scenario: `file` with a stale claim (the ADC driver's DC
+ * gain 20 dB high) is committed and refused with polecheck's review sheet —
+ * the block, the failing claim at its place, the tally over `blocks` blocks —
+ * then the consistent spec is committed and taken. Returns both outputs.
+ */
+export function refusedThenTaken(design: string, env: NodeJS.ProcessEnv, file: string, blocks: string): { refused: Ran; taken: Ran } {
+  const commits = () => sh('git', ['rev-list', '--count', 'HEAD'], design).out.trim();
+  const before = Number(commits());
+  writeFileSync(join(design, file), overclaimedGainSpec(ADC_DRIVER));
+  sh('git', ['add', '.'], design);
+  const refused = sh('git', ['commit', '-m', 'stale gain claim'], design, env);
+  expect(refused.status, refused.out).not.toBe(0);
+  expect(refused.out).toContain(ADC_DRIVER.block);
+  expect(refused.out).toMatch(new RegExp(` {2}fails {2}dc_gain .* ${file.replace(/[.]/g, '\\.')}:\\d+:\\d+`));
+  expect(refused.out).toMatch(new RegExp(`${blocks}, \\d+ claims: 1 fail`));
+  expect(commits()).toBe(String(before));
+
+  writeFileSync(join(design, file), consistentSpec(ADC_DRIVER));
+  sh('git', ['add', '.'], design);
+  const taken = sh('git', ['commit', '-m', 'gain claim restated'], design, env);
+  expect(taken.status, taken.out).toBe(0);
+  expect(commits()).toBe(String(before + 1));
+  return { refused, taken };
 }
