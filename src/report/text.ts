@@ -77,7 +77,8 @@ export function textReport(results: SheetResult[], p: Paint, opts: TextOptions =
       const holding = sheet.rows.filter((row) => row.outcome === 'holds');
       if (holding.length && !opts.errorsOnly) {
         // One line, wrapped at about 100 columns under its own indent.
-        const items = holding.map((row) => `${name(row)} ${row.model}`);
+        // A bound says which it is, so that a row's typical value and its bound are told apart.
+        const items = holding.map((row) => `${name(row)} ${row.model}${/^[≥≤]/.test(row.stated) ? ` (${printable(row.stated)})` : ''}`);
         let current = '';
         const wrapped: string[] = [];
         for (const item of items) {
