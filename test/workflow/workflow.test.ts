@@ -210,8 +210,10 @@ describe('--cache and --shard', () => {
     writeFileSync(join(dir, 'a.md'), SPEC('  gbw: 20 MHz'));
     writeFileSync(join(dir, 'b.md'), SPEC('  gbw: 23 MHz'));
     const first = run(['--cache', '--format', 'json', '.'], dir);
+    // One entry a file, and the folder's own .gitignore, which keeps the cache out of git.
     const entries = readdirSync(join(dir, '.polecheck-cache'));
-    expect(entries).toHaveLength(2);
+    expect(entries.filter((e) => e !== '.gitignore')).toHaveLength(2);
+    expect(readFileSync(join(dir, '.polecheck-cache', '.gitignore'), 'utf8')).toMatch(/^\*$/m);
     const second = run(['--cache', '--format', 'json', '.'], dir);
     expect(second.stdout).toBe(first.stdout);
     // Same content under another name: a hit; changed content: a miss.
