@@ -72,22 +72,16 @@ export function selectFiles(o: Options, config: Config, cwd: string): string[] {
   // A file named on the command line is checked unless excluded; found files must also be included.
   files = files.filter((f) => !excluded(rel(f)) && (explicit.has(f) || included(rel(f))));
   if (o.changed) {
-    // A ref is never an option: `--changed=--output=FILE` must not reach git as one.
-    if (o.changed.startsWith('-')) throw new UsageError(`--changed takes a git ref, got '${o.changed}'`);
-    // Loaded here, not at start-up: only --changed runs git.
-    const { execFileSync } = createRequire(import.meta.url)('node:child_process') as typeof import('node:child_process');
-    let out: string;
-    try {
-      execFileSync('git', ['rev-parse', '--verify', '--quiet', '--end-of-options', `${o.changed}^{commit}`], { cwd, stdio: ['ignore', 'pipe', 'pipe'] });
-      const top = execFileSync('git', ['rev-parse', '--show-toplevel'], { cwd, encoding: 'utf8', stdio: ['ignore', 'pipe', 'pipe'] }).trim();
-      const diff = execFileSync('git', ['diff', '--name-only', '--diff-filter=ACMR', '--end-of-options', o.changed, '--'], { cwd: top, encoding: 'utf8', stdio: ['ignore', 'pipe', 'pipe'] });
-      const untracked = execFileSync('git', ['ls-files', '--others', '--exclude-standard'], { cwd: top, encoding: 'utf8', stdio: ['ignore', 'pipe', 'pipe'] });
-      out = [diff, untracked].join('\n');
-      const changed = new Set(out.split('\n').filter(Boolean).map((f) => resolve(top, f)));
-      files = files.filter((f) => changed.has(resolve(cwd, f)));
-    } catch (err) {
-      throw new UsageError(`--changed ${o.changed}: git could not list the changes (${((err as { stderr?: string }).stderr ?? (err as Error).message).toString().trim().split('\n')[0]})`);
-    }
+    const changed = changedFiles(o.changed, cwd);
+    // git names files under the real path of the repository; the cwd may reach it through a link.
+    const real = (f: string): string => {
+      try {
+        return realpathSync(resolve(cwd, f));
+      } catch {
+        return resolve(cwd, f);
+      }
+    };
+    files = files.filter((f) => changed.has(resolve(cwd, f)) || changed.has(real(f)));
   }
   if (o.shard) {
     // Deterministic: the sorted list, dealt round-robin, so every file lands in exactly one shard.
@@ -95,6 +89,46 @@ export function selectFiles(o: Options, config: Config, cwd: string): string[] {
     files = [...files].sort().filter((_, i) => i % count === index - 1);
   }
   return files;
+}
+
+/**
+ * The absolute paths of the files changed since `ref`, and the untracked ones.
+ * A branch (local or remote-tracking) is compared from its merge base with
+ * HEAD, as a reviewer reads a branch: what this side changed, not what the
+ * branch moved on to since. HEAD, a tag or a commit is compared as it is. The
+ * comparison is with the working tree, so staged and unstaged edits count.
+ */
+export function changedFiles(ref: string, cwd: string): Set<string> {
+  // A ref is never an option: `--changed=--output=FILE` must not reach git as one.
+  if (ref.startsWith('-')) throw new UsageError(`--changed takes a git ref, got '${ref}'`);
+  // Loaded here, not at start-up: only --changed runs git.
+  const { spawnSync } = createRequire(import.meta.url)('node:child_process') as typeof import('node:child_process');
+  const git = (args: string[], at = cwd): { ok: boolean; out: string; err: string } => {
+    const r = spawnSync('git', args, { cwd: at, encoding: 'utf8', stdio: ['ignore', 'pipe', 'pipe'] });
+    const err = r.error ? r.error.message : (r.stderr ?? '').trim().split('\n')[0].replace(/^(fatal|error): /, '');
+    return { ok: r.status === 0, out: r.stdout ?? '', err };
+  };
+  const fail = (why: string): never => {
+    throw new UsageError(`--changed ${ref}: ${why}`);
+  };
+  const top = git(['rev-parse', '--show-toplevel']);
+  if (!top.ok) fail(`git found no repository here (git: ${top.err || 'no message'})`);
+  const root = top.out.trim();
+  // (No --end-of-options here: git 2.39's rev-parse prints it as a revision; the ref cannot start with '-'.)
+  const commit = git(['rev-parse', '--verify', `${ref}^{commit}`]);
+  if (!commit.ok) fail(`not a commit of the repository at ${root} (git: ${commit.err || 'no message'})`);
+  let base = commit.out.trim();
+  const full = git(['rev-parse', '--symbolic-full-name', ref]);
+  if (full.ok && /^refs\/(heads|remotes)\//.test(full.out.trim())) {
+    const mb = git(['merge-base', base, 'HEAD']);
+    if (!mb.ok) fail(`${ref} and HEAD have no common commit to compare from (git: ${mb.err || 'no message'})`);
+    base = mb.out.trim();
+  }
+  const diff = git(['diff', '--name-only', '-z', '--no-renames', '--diff-filter=ACMRT', base, '--'], root);
+  if (!diff.ok) fail(`git could not list the changes (git: ${diff.err || 'no message'})`);
+  const untracked = git(['ls-files', '-z', '--others', '--exclude-standard'], root);
+  if (!untracked.ok) fail(`git could not list the untracked files (git: ${untracked.err || 'no message'})`);
+  return new Set(`${diff.out}\0${untracked.out}`.split('\0').filter(Boolean).map((f) => resolve(root, f)));
 }
 
 function readError(path: string, rule: string, message: string): FileResult {

@@ -12,6 +12,7 @@ import * as text from '../report/text';
 import { VERSION, type Options } from './args';
 import { docsDir, ruleDocs } from './docs';
 import type { Checked, Reviewer } from './job';
+import { repoRelative, repositoryRoot } from './locations';
 
 /** The writer modules an output may need; only those of the requested format are loaded. */
 export interface WriterModules {
@@ -93,9 +94,14 @@ const asResults = (results: Checked[]): FileResult[] => results;
 const quietly = (results: FileResult[], errorsOnly: boolean): FileResult[] =>
   errorsOnly ? results.map((r) => ({ ...r, findings: r.findings.filter((f) => f.severity === 'error' && !f.waived) })) : results;
 
-/** `cwd`: the folder relative paths of the output are taken from (the command's working folder). */
+/** `cwd`: the folder the paths were given from; the CI formats (SARIF, GitHub, GitLab) place findings relative to the repository root. */
 export function outputFrom(o: Options, color: boolean, m: WriterModules, cwd = process.cwd()): Output {
   const p = paint(color);
+  const root = () => repositoryRoot(cwd);
+  const located = (results: FileResult[]): FileResult[] => {
+    const top = root();
+    return results.map((r) => ({ ...r, path: repoRelative(r.path, cwd, top) }));
+  };
   const need = <K extends keyof WriterModules>(k: K): NonNullable<WriterModules[K]> => {
     const mod = m[k];
     if (!mod) throw new Error(`the ${k} writer was not loaded`);
@@ -142,8 +148,9 @@ export function outputFrom(o: Options, color: boolean, m: WriterModules, cwd = p
       const { sarifReport } = need('sarif');
       // The rule pages ship with the package; link them where it is installed.
       out.render = (results) =>
-        sarifReport(asResults(results), {
+        sarifReport(located(asResults(results)), {
           version: VERSION,
+          srcRoot: root(),
           rules: RULES,
           docs: ruleDocs(),
           docsBase: pathToFileURL(docsDir()).href,
@@ -153,16 +160,16 @@ export function outputFrom(o: Options, color: boolean, m: WriterModules, cwd = p
     }
     case 'github': {
       const { githubReport } = need('github');
-      out.render = (results) => githubReport(quietly(asResults(results), o.errorsOnly));
+      out.render = (results) => githubReport(located(quietly(asResults(results), o.errorsOnly)));
       break;
     }
     case 'gitlab': {
       const { gitlabReport } = need('gitlab');
-      out.render = (results) => gitlabReport(quietly(asResults(results), o.errorsOnly));
+      out.render = (results) => gitlabReport(located(quietly(asResults(results), o.errorsOnly)));
       break;
     }
     default:
-      out.render = (results) => text.textReport(asResults(results), p, { errorsOnly: o.errorsOnly });
+      out.render = (results) => text.textReport(asResults(results), p, { errorsOnly: o.errorsOnly, warningsAllowed: o.warningsAllowed });
   }
   return out;
 }

@@ -12,6 +12,8 @@ import { ResultCache, hashOf } from '../cache';
 import { type Config, ConfigError, defaultConfig, findConfig, loadConfig } from '../config';
 import { useColor } from '../report/style';
 import { summarize } from '../report/summary';
+import { INPUT_DIAGNOSTICS } from '../diagnostics';
+import { nearest } from '../spec/nearest';
 import { todayIso } from '../waivers';
 import { HELP, type Options, UsageError, VERSION, parseArgs } from './args';
 import { selectFiles } from './discover';
@@ -58,15 +60,24 @@ export function prepare(argv: string[], io: MainIO): Prepared | number {
     return 0;
   }
   if (o.command === 'rules') {
-    const w = Math.max(...RULES.map((r) => r.id.length));
-    io.stdout(`${RULES.map((r) => `${r.id.padEnd(w)}  ${r.severity.padEnd(7)}  ${r.description}`).join('\n')}\n`);
+    // The reader findings follow the rules, so that every id a report shows is listed (and `explain` knows it).
+    const readers = INPUT_DIAGNOSTICS.filter((d) => !RULES.some((r) => r.id === d.id));
+    const w = Math.max(...RULES.map((r) => r.id.length), ...readers.map((d) => d.id.length));
+    const line = (id: string, level: string, what: string) => `${id.padEnd(w)}  ${level.padEnd(7)}  ${what}`;
+    io.stdout(`${RULES.map((r) => line(r.id, r.severity, r.description)).join('\n')}\n\nreader findings (about the document itself):\n${readers.map((d) => line(d.id, d.severity, d.description)).join('\n')}\n`);
     return 0;
   }
   if (o.command === 'explain') {
-    const id = o.paths[0];
+    const id = o.paths[0] ?? '';
     const rule = RULES.find((r) => r.id === id);
+    const input = INPUT_DIAGNOSTICS.find((d) => d.id === id);
+    if (input) {
+      io.stdout(explainInput(input));
+      return 0;
+    }
     if (!rule) {
-      io.stderr(`polecheck: unknown rule '${id ?? ''}'; 'polecheck rules' lists them\n`);
+      const near = id ? nearest(id, [...RULES.map((r) => r.id), ...INPUT_DIAGNOSTICS.map((d) => d.id)]) : undefined;
+      io.stderr(`polecheck: ${id ? `no rule or reader finding is called '${id}'` : 'explain takes the id of a rule or of a reader finding'}${near ? `; did you mean '${near}'?` : ''} ('polecheck rules' lists them)\n`);
       return 2;
     }
     try {
@@ -122,6 +133,19 @@ export function prepare(argv: string[], io: MainIO): Prepared | number {
   return { kind: 'files', o, files, cwd, color, job, cache };
 }
 
+/** `explain` for a reader finding: what it reports and whether a waiver may accept it. */
+function explainInput(d: (typeof INPUT_DIAGNOSTICS)[number]): string {
+  return `${d.id} — a reader finding (${d.severity})
+
+${d.description}
+
+Reader findings are about the document itself: it could not be read, parsed or
+matched to its topology, so the claims it concerns were not judged. The message
+names the key or cell and, where one is near, the value or name that was meant.
+${d.waivable ? `A waiver in the front matter may accept it (\`waivers: [{rule: ${d.id}, reason: …}]\`).` : 'No waiver can accept it.'}
+`;
+}
+
 export function printSchema(which: 'spec' | 'config', io: MainIO, m: typeof import('../schema-json')): number {
   io.stdout(`${JSON.stringify(which === 'config' ? m.configSchema() : m.jsonSchema(), null, 2)}\n`);
   return 0;
@@ -144,7 +168,7 @@ export function finish(plan: Plan, outcomes: Outcome[], output: Output, io: Main
   }
   if (o.out) {
     try {
-      writeFileSync(o.out, text);
+      writeFileSync(resolve(plan.cwd, o.out), text);
     } catch (err) {
       io.stderr(`polecheck: cannot write ${o.out}: ${(err as Error).message}\n`);
       return 2;
@@ -153,7 +177,11 @@ export function finish(plan: Plan, outcomes: Outcome[], output: Output, io: Main
   if (o.command === 'report') return 0;
   const s = summarize(outcomes);
   if (s.errors > 0) return 1;
-  if (o.warningsAllowed !== undefined && s.warnings > o.warningsAllowed) return 1;
+  if (o.warningsAllowed !== undefined && s.warnings > o.warningsAllowed) {
+    // The text report's tally says so; the other formats are read by programs, so the reason goes to standard error.
+    if (o.format !== 'text' || o.out) io.stderr(`polecheck: ${s.warnings} warning${s.warnings === 1 ? '' : 's'}, more than the ${o.warningsAllowed} allowed (--warnings-allowed)\n`);
+    return 1;
+  }
   return 0;
 }
 

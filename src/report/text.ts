@@ -26,7 +26,13 @@ export function printable(s: string): string {
 
 const pad = (s: string, n: number): string => s + ' '.repeat(Math.max(0, n - [...s].length));
 
-export function textReport(results: SheetResult[], p: Paint, opts: { errorsOnly?: boolean } = {}): string {
+export interface TextOptions {
+  errorsOnly?: boolean;
+  /** --warnings-allowed: the tally says when the warnings are more than this. */
+  warningsAllowed?: number;
+}
+
+export function textReport(results: SheetResult[], p: Paint, opts: TextOptions = {}): string {
   const lines: string[] = [];
   let blocks = 0;
   let claims = 0;
@@ -76,12 +82,12 @@ export function textReport(results: SheetResult[], p: Paint, opts: { errorsOnly?
       const holding = sheet.rows.filter((row) => row.outcome === 'holds');
       if (holding.length && !opts.errorsOnly) {
         // One line, wrapped at about 100 columns under its own indent.
-        // A bound that holds shows the bound beside the figure (`overshoot 19% ≤ 25%`).
+        // A bound that holds shows the bound beside the figure (`overshoot 19% (≤ 25%)`), so a row's typical value and its bound are told apart.
         // A row stated as typical and bounded (Typ 19, Max 25) is one item.
         const byRow = new Map<string, string>();
         for (const row of holding) {
           const at = `${name(row)}\u0000${row.model}\u0000${row.line}`;
-          const bound = /^[≥≤]/.test(row.stated) ? ` ${printable(row.stated)}` : '';
+          const bound = /^[≥≤]/.test(row.stated) ? ` (${printable(row.stated)})` : '';
           byRow.set(at, (byRow.get(at) ?? `${name(row)} ${row.model}`) + bound);
         }
         const items = [...byRow.values()];
@@ -115,8 +121,11 @@ export function textReport(results: SheetResult[], p: Paint, opts: { errorsOnly?
   const s = summarize(results);
   const n = (k: number, one: string, many = `${one}s`) => `${k} ${k === 1 ? one : many}`;
   const others = s.errors - failing;
-  const tally = `${n(blocks, 'block')}, ${n(claims, 'claim')}: ${failing} fail, ${thin} thin; ${n(s.warnings - thin, 'warning')}${others > 0 ? `, ${n(others, 'other error')}` : ''}${s.waived ? `, ${s.waived} waived` : ''}`;
-  lines.push(s.errors ? p.red(tally) : s.warnings ? p.yellow(tally) : p.green(tally));
+  const overLimit = opts.warningsAllowed !== undefined && s.warnings > opts.warningsAllowed;
+  // The limit counts every warning, thin claims included.
+  const limit = overLimit ? ` (${s.warnings} in all, more than the ${opts.warningsAllowed} allowed)` : '';
+  const tally = `${n(blocks, 'block')}, ${n(claims, 'claim')}: ${failing} fail, ${thin} thin; ${n(s.warnings - thin, 'warning')}${limit}${others > 0 ? `, ${n(others, 'other error')}` : ''}${s.waived ? `, ${s.waived} waived` : ''}`;
+  lines.push(s.errors || overLimit ? p.red(tally) : s.warnings ? p.yellow(tally) : p.green(tally));
   if (s.files > 0) lines.push(p.dim(CAUTION));
   return `${lines.join('\n')}\n`;
 }

@@ -10,6 +10,7 @@ import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { RULES } from '../../rules';
+import { INPUT_DIAGNOSTICS } from '../../src/diagnostics';
 import { checkFile, discover, main } from '../../src/cli';
 import { useColor } from '../../src/report/style';
 import { ADC_DRIVER, BRIDGE_BUFFER, NOTES_PAGE, SLIPPED_RZ, consistentSpec, overclaimedGainSpec, writeTree } from './fixtures';
@@ -187,6 +188,18 @@ describe('--warnings-allowed N: exit 1 when there are more than N warnings', () 
     expect(run(['--warnings-allowed', '1000', dir]).code).toBe(1);
   });
 
+  it('says why when the warnings are more than allowed: in the tally, or on standard error for the other formats', () => {
+    const dir = folder({ 'slip.md': consistentSpec(SLIPPED_RZ) });
+    const over = run(['--warnings-allowed', '0', dir]);
+    expect(over.out).toMatch(/; 1 warning \(1 in all, more than the 0 allowed\)\n/);
+    expect(over.err).toBe('');
+    expect(run(['--warnings-allowed', '1', dir]).out).not.toMatch(/allowed/);
+    const json = run(['--format', 'json', '--warnings-allowed', '0', dir]);
+    expect(json.code).toBe(1);
+    expect(json.err).toBe('polecheck: 1 warning, more than the 0 allowed (--warnings-allowed)\n');
+    expect(run(['--format', 'json', '--warnings-allowed', '1', dir]).err).toBe('');
+  });
+
   it('warnings of all files count together', () => {
     const dir = folder({ 'a.md': consistentSpec(SLIPPED_RZ), 'b.md': consistentSpec(SLIPPED_RZ) });
     expect(run(['--warnings-allowed', '1', dir]).code).toBe(1);
@@ -343,12 +356,16 @@ describe('report: every claim with claimed, exact, hand estimate and verdict', (
 });
 
 describe('rules and explain', () => {
-  it('`rules` lists every registered rule with its default severity', () => {
+  it('`rules` lists every registered rule with its default severity, then the reader findings', () => {
     const r = run(['rules']);
     expect(r.code).toBe(0);
-    const lines = r.out.trim().split('\n');
+    const [rules, readers] = r.out.trim().split('\n\n');
+    const lines = rules.split('\n');
     expect(lines).toHaveLength(RULES.length);
     RULES.forEach((rule, i) => expect(lines[i].split(/\s{2,}/).slice(0, 2)).toEqual([rule.id, rule.severity]));
+    const readerLines = readers.split('\n');
+    expect(readerLines[0]).toMatch(/^reader findings/);
+    expect(readerLines.slice(1).map((l) => l.split(/\s{2,}/)[0])).toEqual(INPUT_DIAGNOSTICS.map((d) => d.id));
   });
 
   it('`explain RULE` prints the rule and exits 0', () => {
@@ -358,11 +375,42 @@ describe('rules and explain', () => {
     expect(r.err).toBe('');
   });
 
-  it('`explain` of an unknown rule exits 2 and points at `polecheck rules`', () => {
+  it('`explain` of an unknown id exits 2, suggests the nearest id and points at `polecheck rules`', () => {
     const r = run(['explain', 'phase-margn']);
     expect(r.code).toBe(2);
-    expect(r.err).toMatch(/unknown rule 'phase-margn'; 'polecheck rules' lists them/);
+    expect(r.err).toMatch(/no rule or reader finding is called 'phase-margn'; did you mean 'phase-margin'\? \('polecheck rules' lists them\)/);
     expect(r.out).toBe('');
+    expect(run(['explain', 'wrong-units']).err).toMatch(/did you mean 'wrong-unit'/);
+    expect(run(['explain', 'zzz']).err).not.toMatch(/did you mean/);
+  });
+
+  it('every finding id the sources can emit is a rule or a catalogued reader finding', () => {
+    // The ids written as literals where findings are made (schema, tables, pipeline, reading, waivers).
+    const emitted = new Set<string>();
+    const walk = (dir: string): void => {
+      for (const e of readdirSync(dir, { withFileTypes: true })) {
+        if (e.isDirectory()) walk(join(dir, e.name));
+        else if (e.name.endsWith('.ts')) {
+          const text = readFileSync(join(dir, e.name), 'utf8');
+          for (const m of text.matchAll(/\b(?:error|finding|inputError|readError)\((?:path, )?'([a-z][a-z0-9-]*)'/g)) emitted.add(m[1]);
+          for (const m of text.matchAll(/\brule: '([a-z][a-z0-9-]*)'/g)) emitted.add(m[1]);
+        }
+      }
+    };
+    walk('src');
+    expect(emitted.size).toBeGreaterThanOrEqual(10);
+    const known = new Set([...RULES.map((r) => r.id), ...INPUT_DIAGNOSTICS.map((d) => d.id)]);
+    expect([...emitted].filter((id) => !known.has(id))).toEqual([]);
+  });
+
+  it('`explain` knows every reader finding: what it reports and whether a waiver may accept it', () => {
+    for (const d of INPUT_DIAGNOSTICS) {
+      const r = run(['explain', d.id]);
+      expect(r.code, d.id).toBe(0);
+      expect(r.out).toContain(`${d.id} — a reader finding (${d.severity})`);
+      expect(r.out).toContain(d.description);
+      expect(r.out).toContain(d.waivable ? `{rule: ${d.id}, reason: …}` : 'No waiver can accept it.');
+    }
   });
 
   it('`explain` without a rule exits 2', () => {

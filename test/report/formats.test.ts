@@ -2,9 +2,7 @@
 // validator, with the GitHub code-scanning rule set), GitHub workflow
 // commands and the GitLab code-quality report, all built from real results
 // of invented specs and of the demo design repository.
-import { execFileSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
-import { createRequire } from 'node:module';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
@@ -15,6 +13,7 @@ import { escapeData, escapeProperty, githubReport } from '../../src/report/githu
 import { gitlabReport } from '../../src/report/gitlab';
 import { INPUT_DIAGNOSTICS, findingFingerprints, ruleName, sarifReport } from '../../src/report/sarif';
 import { INPUT_RULE_IDS } from '../../src/waivers';
+import { validateSarif } from './multitool';
 
 const TODAY = '2026-01-01';
 const REASON = 'accepted at design review DR-7: the 12 pF end of the range only occurs in the slow-settling mode';
@@ -302,23 +301,6 @@ describe('the SARIF Multitool validator', () => {
   const dir = mkdtempSync(join(tmpdir(), 'polecheck-sarif-'));
   afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
-  // The native validator the package's `sarif-multitool` command runs; called
-  // directly so that no shell splits the `;`-separated option lists.
-  const multitool: string = createRequire(import.meta.url)('@microsoft/sarif-multitool');
-
-  // SARIF2006 fetches every URI in the log over HTTP; tests use no network.
-  const config = join(dir, 'offline.xml');
-  writeFileSync(
-    config,
-    `<?xml version="1.0" encoding="utf-8"?>
-<Properties>
-  <Properties Key="SARIF2006.UrisShouldBeReachable.Options">
-    <Property Key="RuleEnabled" Value="Disabled" Type="Driver.RuleEnabledState" />
-  </Properties>
-</Properties>
-`,
-  );
-
   // Notes we accept, each a choice rather than an omission: messages are
   // plain text rather than message-string templates (SARIF2002); the writer
   // knows nothing of version control (SARIF2003) nor of the file contents
@@ -347,26 +329,11 @@ describe('the SARIF Multitool validator', () => {
     for (const r of canary.runs[0].tool.driver.rules) delete r.shortDescription;
     writeFileSync(files.canary, JSON.stringify(canary, null, 2));
 
-    const out = join(dir, 'validation.sarif');
-    execFileSync(
-      multitool,
-      ['validate', files.invented, files.demo, files.canary, '--output', out, '--log', 'ForceOverwrite', '--level', 'Error;Warning;Note', '--rule-kind', 'Sarif;Ghas', '--config', config],
-      { stdio: 'pipe', timeout: 60000 },
-    );
-    const validation: Json = JSON.parse(readFileSync(out, 'utf8'));
-    const vrun = validation.runs[0];
+    const { run: vrun, reported } = validateSarif(dir, [files.invented, files.demo, files.canary]);
     expect(vrun.invocations[0].executionSuccessful).toBe(true);
     // The only configuration notice is the one about the rule disabled above.
     expect((vrun.invocations[0].toolConfigurationNotifications ?? []).map((n: Json) => n.descriptor?.id)).toEqual(['WRN999.RuleExplicitlyDisabled']);
     expect(vrun.invocations[0].toolExecutionNotifications ?? []).toEqual([]);
-
-    const reported = (file: string) =>
-      (vrun.results as Json[])
-        .filter((r) => decodeURIComponent(r.locations[0].physicalLocation.artifactLocation.uri).endsWith(file.replace(/\\/g, '/')))
-        .map((r) => {
-          const level = r.level ?? vrun.tool.driver.rules[r.ruleIndex]?.defaultConfiguration?.level ?? 'warning';
-          return { level, rule: r.ruleId as string, where: `${r.locations[0].physicalLocation.region?.startLine}` };
-        });
 
     for (const file of [files.invented, files.demo]) {
       const found = reported(file);

@@ -210,6 +210,7 @@ describe('--cache and --shard', () => {
     writeFileSync(join(dir, 'a.md'), SPEC('  gbw: 20 MHz'));
     writeFileSync(join(dir, 'b.md'), SPEC('  gbw: 23 MHz'));
     const first = run(['--cache', '--format', 'json', '.'], dir);
+    // One entry a file, and the folder's own .gitignore, which keeps the cache out of git.
     const entries = readdirSync(join(dir, '.polecheck-cache'));
     expect(entries.filter((n) => n.endsWith('.json'))).toHaveLength(2);
     // The folder ignores itself: git (the real one) sees the specs and nothing of the cache.
