@@ -206,3 +206,12 @@ function separator(like: Written): string {
   }
   return like.unit === '\u00b0' || like.unit === '%' ? '' : ' ';
 }
+
+/**
+ * A claim's figure as a reviewer reads it: as formatQuantity, except that a
+ * fraction claimed as such (overshoot) is shown in percent: 0.19 → `19%`.
+ */
+export function formatFigure(value: number, kind: Kind, digits = 3): string {
+  if (kind === 'ratio' && typeof value === 'number' && Number.isFinite(value)) return `${fixedSig(100 * value + 0, clampDigits(digits, 21))}%`;
+  return formatQuantity(value, kind, digits);
+}

@@ -20,4 +20,4 @@ export {
   type RangeText,
   type Written,
 } from './parse';
-export { formatLike, formatQuantity, roundTo, shiftDecimal } from './format';
+export { formatFigure, formatLike, formatQuantity, roundTo, shiftDecimal } from './format';

@@ -7,7 +7,7 @@ import { conditionsText } from '../evaluation';
 import type { Figure } from '../engine/figure';
 import { rootHz } from '../engine/roots';
 import { inLoop } from '../places';
-import { formatQuantity } from '../quantity';
+import { formatFigure, formatQuantity } from '../quantity';
 import type { ClaimEntry } from '../spec/types';
 import type { Paint } from './style';
 import { CAUTION } from './summary';
@@ -64,14 +64,14 @@ export function reviewSection(r: FileResult, p: Paint): string {
     out.push(`  ranges: ${ranged.map(span).join('; ')}; bounds are checked at the worst corner`);
   }
   const none = (f: Figure | undefined) => (f?.unbounded ? 'unbounded' : 'none');
-  const show = (v: number | null, f: Figure | undefined, kind: Parameters<typeof formatQuantity>[1]) => (v === null ? none(f) : formatQuantity(v, kind));
+  const show = (v: number | null, f: Figure | undefined, kind: Parameters<typeof formatQuantity>[1]) => (v === null ? none(f) : formatFigure(v, kind));
   const verdictText = { holds: p.green('holds'), thin: p.yellow('thin margin'), fails: p.red('fails') };
   const rows: string[][] = [['claim', 'stated in', 'conditions', 'claimed', 'exact model', 'worst corner', 'hand estimate', 'hand error', 'verdict']];
   const results = claimResults(r);
   for (const cs of spec.topology.claims) {
     const mine = results.filter((x) => x.entry.key === cs.key);
     const hand = model.hand[cs.key];
-    const handText = hand ? (hand.value === null ? none(hand) : formatQuantity(hand.value, cs.kind)) : '—';
+    const handText = hand ? (hand.value === null ? none(hand) : formatFigure(hand.value, cs.kind)) : '—';
     if (!mine.length) {
       const exact = model.exact[cs.key];
       rows.push([cs.key, '', '', '—', exact ? show(exact.value, exact, cs.kind) : '—', '', handText, handError(hand, exact, exact?.unit ?? 'Hz'), p.dim('not claimed')]);
@@ -84,7 +84,7 @@ export function reviewSection(r: FileResult, p: Paint): string {
       const corners = x.bounds.filter((b) => b.bound !== 'typ').map((b) => b.corner).join('; ') || '—';
       const typFig = x.point.context.model.exact[cs.key];
       const xh = x.hand;
-      rows.push([cs.key, where, conditions, claimedText(x.entry), exactText, corners, xh ? (xh.value === null ? none(xh) : formatQuantity(xh.value, cs.kind)) : '—', handError(xh, typFig, typFig?.unit ?? 'Hz'), verdictText[x.verdict]]);
+      rows.push([cs.key, where, conditions, claimedText(x.entry), exactText, corners, xh ? (xh.value === null ? none(xh) : formatFigure(xh.value, cs.kind)) : '—', handError(xh, typFig, typFig?.unit ?? 'Hz'), verdictText[x.verdict]]);
     }
   }
   out.push(...table(rows, p).map((l) => `  ${l}`));

@@ -11,7 +11,7 @@ import type { Figure } from '../../engine/figure';
 import { type Root, rootHz } from '../../engine/roots';
 import type { Model } from '../../model';
 import { inLoop } from '../../places';
-import { formatQuantity } from '../../quantity';
+import { formatFigure, formatQuantity } from '../../quantity';
 import type { Kind } from '../../quantity/units';
 import { claimResults } from '../../results';
 import { INPUT_NOISE_AT } from '../../topologies/common';
@@ -138,7 +138,7 @@ function figureText(f: Figure | undefined, kind: Kind | undefined): string {
   if (f.unit === 'V/V') return `${+f.value.toPrecision(4)} V/V`;
   if (f.unit === 'MHz·pF/mA') return `${+f.value.toPrecision(3)} MHz·pF/mA`;
   const k = kind ?? KIND_OF_UNIT[f.unit];
-  return k ? formatQuantity(f.value, k) : `${+f.value.toPrecision(4)} ${f.unit}`;
+  return k ? formatFigure(f.value, k) : `${+f.value.toPrecision(4)} ${f.unit}`;
 }
 
 /** A file name for the block's page: its id in safe characters, unique among `taken`. */
@@ -164,7 +164,7 @@ export function pageData(r: FileResult): Omit<BlockPage, 'file'> | undefined {
   for (const x of claimResults(r)) {
     const e = x.entry;
     const kind = e.spec.kind;
-    const show = (v: number | null, f: Figure | undefined) => (v === null ? (f?.unbounded ? 'unbounded' : 'none') : formatQuantity(v, kind));
+    const show = (v: number | null, f: Figure | undefined) => (v === null ? (f?.unbounded ? 'unbounded' : 'none') : formatFigure(v, kind));
     const places = e.source === 'table' ? [e.typ, e.min, e.max].filter(Boolean).map((q) => q!.pos) : [e.keyPos];
     const cells = new Set(places.map((q) => `${q.line}:${q.column}`));
     const own = r.findings.filter((f) => f.claim === e.key && f.verdict && cells.has(`${f.line}:${f.column}`));
