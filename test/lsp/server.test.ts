@@ -384,7 +384,7 @@ describe('workspace', () => {
     const text = readFileSync(path, 'utf8');
     await open(path, text);
     const config = join(ws, 'polecheck.yaml');
-    writeFileSync(config, 'rules:\n  gain-bandwidth: off\n  rhp-zero-spacing: error\n');
+    writeFileSync(config, 'rules:\n  gain-bandwidth: none\n  rhp-zero-spacing: error\n');
     const uri = uriOf(path);
     let got = c.diagnostics(uri);
     await c.conn.sendNotification('workspace/didChangeWatchedFiles', { changes: [{ uri: uriOf(config), type: 1 }] });
@@ -421,7 +421,7 @@ describe('workspace', () => {
     await open(from, text);
     const folder = join(ws, 'specs', 'archive');
     mkdirSync(folder, { recursive: true });
-    writeFileSync(join(folder, 'polecheck.yaml'), 'rules:\n  hand-estimate-drift: off\n');
+    writeFileSync(join(folder, 'polecheck.yaml'), 'rules:\n  hand-estimate-drift: none\n');
     const to = join(folder, 'vcm-buffer.md');
     renameSync(from, to);
     const cleared = c.diagnostics(uriOf(from), (p) => p.diagnostics.length === 0);
