@@ -39,6 +39,13 @@ export interface CheckOptions {
   today?: string;
 }
 
+/**
+ * Design-change searches per file: each re-judges the whole spec many times,
+ * so a document of thousands of failing statements would take minutes. Repeated
+ * statements share one search; past this many, failing statements are restated only.
+ */
+export const DESIGN_SEARCHES = 24;
+
 export function checkText(path: string, text: string, options: CheckOptions = {}): FileResult {
   const read = readDocument(path, text);
   if (read.kind === 'skipped') return { path, skipped: true, findings: [] };
@@ -56,7 +63,12 @@ export function checkText(path: string, text: string, options: CheckOptions = {}
     if (!hit) rechecked.set(key, (hit = recheck(spec, changes, options.tolerances)));
     return hit;
   };
-  for (const p of points) p.context.recheck = recheckOnce;
+  // Each search re-judges every operating point: with many points, fewer searches.
+  const designBudget = { left: Math.max(2, Math.min(DESIGN_SEARCHES, Math.floor((DESIGN_SEARCHES * 4) / points.length))) };
+  for (const p of points) {
+    p.context.recheck = recheckOnce;
+    p.context.designBudget = designBudget;
+  }
   const [front, ...rows] = points;
   const claimRules = RULES.filter((r) => r.scope === 'claims');
   const designRules = RULES.filter((r) => r.scope !== 'claims');

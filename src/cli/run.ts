@@ -21,6 +21,7 @@ import { type Output, loadWriters, outputFrom } from './output';
 import { type Plan, checkInThread } from './plan';
 import { checkInWorkers } from './pool';
 import { writeFixes } from './write';
+import { printable } from '../report/text';
 
 export interface MainIO {
   stdout: (s: string) => void;
@@ -98,8 +99,10 @@ export function prepare(argv: string[], io: MainIO): Prepared | number {
   }
 
   let files: string[];
+  const notes: string[] = [];
   try {
-    files = selectFiles(o, config, cwd);
+    files = selectFiles(o, config, cwd, notes);
+    for (const note of notes) io.stderr(`polecheck: ${printable(note)}\n`);
   } catch (err) {
     if (err instanceof UsageError) {
       io.stderr(`polecheck: ${err.message}\n`);
