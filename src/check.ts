@@ -5,7 +5,7 @@
 
 import { RULES } from '../rules';
 import { type Finding, sortFindings } from './findings';
-import type { Model } from './model';
+import { type Model, evaluationCount } from './model';
 import { readDocument } from './pipeline';
 import { type Sheet, sheetOf } from './report/sheet';
 import { type Judged, type OperatingPoint, judgeAll, operatingPoints, recheck } from './points';
@@ -46,6 +46,9 @@ export interface CheckOptions {
  */
 export const DESIGN_SEARCHES = 24;
 
+/** Model evaluations the design-change searches of a file may start within (a search under way finishes). */
+export const DESIGN_EVALUATIONS = 800;
+
 export function checkText(path: string, text: string, options: CheckOptions = {}): FileResult {
   const read = readDocument(path, text);
   if (read.kind === 'skipped') return { path, skipped: true, findings: [] };
@@ -64,7 +67,7 @@ export function checkText(path: string, text: string, options: CheckOptions = {}
     return hit;
   };
   // Each search re-judges every operating point: with many points, fewer searches.
-  const designBudget = { left: Math.max(2, Math.min(DESIGN_SEARCHES, Math.floor((DESIGN_SEARCHES * 4) / points.length))) };
+  const designBudget = { left: Math.max(2, Math.min(DESIGN_SEARCHES, Math.floor((DESIGN_SEARCHES * 4) / points.length))), until: evaluationCount() + DESIGN_EVALUATIONS };
   for (const p of points) {
     p.context.recheck = recheckOnce;
     p.context.designBudget = designBudget;

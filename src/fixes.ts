@@ -11,7 +11,7 @@
 // The words of `suggestions` are rendered from these.
 
 import type { Fix, TextEdit } from './findings';
-import type { Model } from './model';
+import { type Model, evaluationCount } from './model';
 import type { Judged } from './points';
 import { type Kind, type Written, formatLike, formatQuantity, parseQuantity } from './quantity';
 import type { Recheck, RuleContext } from './rule';
@@ -373,7 +373,7 @@ export function designChanges(ctx: RuleContext, entry: ClaimEntry, v: BoundVerdi
   const hit = memo.get(key);
   if (hit) return hit;
   if (ctx.designBudget) {
-    if (ctx.designBudget.left <= 0) return { notSearched: BUDGET_SPENT };
+    if (ctx.designBudget.left <= 0 || evaluationCount() > ctx.designBudget.until) return { notSearched: BUDGET_SPENT };
     ctx.designBudget.left--;
   }
   const fixes = searchDesignChanges(ctx, entry, v, at);
@@ -483,6 +483,7 @@ function solvePair(ctx: RuleContext, target: Statement, knobs: KeySpec[], at: Va
   }
   candidates.sort((x, y) => x.distance - y.distance);
   for (const c of candidates.slice(0, 8)) {
+    if (ctx.designBudget && evaluationCount() > ctx.designBudget.until) break;
     const r = ctx.recheck!(c.changes);
     if (r.stable && r.judged.every((j) => j.verdict.outcome !== 'fails')) return c.changes;
   }

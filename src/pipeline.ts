@@ -1,8 +1,7 @@
-// Text → Spec: unified + remark-parse + remark-frontmatter + remark-gfm find
-// the front matter (and, later, datasheet tables); js-yaml reads it with
-// positions; the schema turns it into a typed Spec.
+// Text → Spec: the front matter found by its fences, js-yaml reading it with
+// positions, the schema turning it into a typed Spec; unified + remark-parse +
+// remark-gfm reading the body's datasheet tables (and only those lines).
 
-import remarkFrontmatter from 'remark-frontmatter';
 import remarkGfm from 'remark-gfm';
 import remarkParse from 'remark-parse';
 import { unified } from 'unified';
@@ -13,7 +12,7 @@ import { readTables } from './spec/tables';
 import type { Spec } from './spec/types';
 import { parseYaml } from './spec/yaml';
 
-const processor = unified().use(remarkParse).use(remarkFrontmatter, ['yaml']).use(remarkGfm);
+const processor = unified().use(remarkParse).use(remarkGfm);
 
 export type ReadResult =
   | { kind: 'skipped' }
@@ -39,34 +38,38 @@ export function readDocument(path: string, raw: string): ReadResult {
   // Front matter can only open a file; most non-spec pages leave here unparsed.
   if (!text.startsWith('---') || !SPEC_KEY.test(text)) return { kind: 'skipped' };
   const index = new LineIndex(text);
-  // Markdown parsing dominates the cost of a check, and is superlinear on
-  // some hostile text: parse the front matter, and of the body only the
-  // datasheet tables a linear line scan finds, every other line blanked to
-  // spaces of the same length so that positions stay those of the file.
-  const fence = /\n---[ \t]*(?:\n|$)/.exec(text.slice(3));
-  const headEnd = fence ? 3 + fence.index + fence[0].length : text.length;
-  const body = tableLines(text, headEnd);
-  let tree: ReturnType<typeof processor.parse>;
-  let bodyProblem: Finding | undefined;
-  try {
-    tree = processor.parse(body.blocks ? text.slice(0, headEnd) + body.masked : text.slice(0, headEnd));
-  } catch (err) {
-    // A body nested deeper than the Markdown parser's stack goes: check the
-    // front matter alone and say that the body's tables were not read.
-    if (!(err instanceof RangeError)) throw err;
-    tree = processor.parse(text.slice(0, headEnd));
-    bodyProblem = { rule: 'table', severity: 'warning', line: index.pos(headEnd).line, column: 1, claim: null, message: 'the Markdown body is nested too deeply to parse; its datasheet tables were not read', suggestions: [] };
-  }
-  const yamlNode = tree.children[0]?.type === 'yaml' ? tree.children[0] : undefined;
-  if (!yamlNode?.position) {
+  // The front matter is found by its fences (an opening `---` line, the next
+  // `---` line closes it), as remark-frontmatter finds it. Markdown parsing
+  // dominates the cost of a check and is superlinear on some hostile text: of
+  // the body only the datasheet tables a linear line scan finds are parsed,
+  // everything else blanked to spaces of the same length, so that positions
+  // stay those of the file.
+  const open = /^---[ \t]*\r?\n/.exec(text);
+  const close = open ? /\n---[ \t]*\r?(?:\n|$)/.exec(text.slice(open[0].length - 1)) : null;
+  if (!open || !close) {
     // An opening fence with the spec key but no closing fence is a broken spec, not a page.
-    if (/^---[ \t]*\r?\n/.test(text) && SPEC_KEY.test(text)) {
+    if (open && SPEC_KEY.test(text)) {
       return { kind: 'spec', spec: null, findings: [inputError('front-matter', { line: 1, column: 1 }, 'front matter has no closing `---` fence')] };
     }
     return { kind: 'skipped' };
   }
-  const start = yamlNode.position.start.offset ?? 0;
-  const end = yamlNode.position.end.offset ?? text.length;
+  const closeLine = open[0].length - 1 + close.index + 1;
+  const headEnd = closeLine + close[0].length - 1;
+  const body = tableLines(text, headEnd);
+  let tree: { children: unknown[] } = { children: [] };
+  let bodyProblem: Finding | undefined;
+  if (body.blocks) {
+    try {
+      tree = processor.parse(text.slice(0, headEnd).replace(/[^\r\n]/g, ' ') + body.masked);
+    } catch (err) {
+      // A body nested deeper than the Markdown parser's stack goes: check the
+      // front matter alone and say that the body's tables were not read.
+      if (!(err instanceof RangeError)) throw err;
+      bodyProblem = { rule: 'table', severity: 'warning', line: index.pos(headEnd).line, column: 1, claim: null, message: 'the Markdown body is nested too deeply to parse; its datasheet tables were not read', suggestions: [] };
+    }
+  }
+  const start = 0;
+  const end = closeLine + 3;
   // Content runs from after the opening fence's line break to the start of the closing fence line.
   const nl = text.indexOf('\n', start);
   const contentStart = nl < 0 || nl > end ? end : nl + 1;

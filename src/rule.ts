@@ -27,7 +27,7 @@ export interface RuleContext {
    * points): each failing statement of a new kind spends one; once spent,
    * failing statements get their restatement only, and say so.
    */
-  designBudget?: { left: number };
+  designBudget?: { left: number; until: number };
 }
 
 export interface Recheck {

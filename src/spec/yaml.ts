@@ -126,6 +126,8 @@ function buildTree(source: string, events: Event[], where: (offset: number) => P
           const line = source.slice(header + 1, Math.max(header + 1, ev.valueStart));
           const ind = line.search(/[|>]/);
           node.pos = where(ind >= 0 ? header + 1 + ind : Math.max(0, ev.valueStart - 1));
+          const at = node.pos;
+          node.at = () => at;
         }
       } else if (!empty) node.span = [where(ev.valueStart).offset, where(ev.valueEnd).offset];
       if (!empty) {
