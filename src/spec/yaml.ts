@@ -232,7 +232,7 @@ function yamlError(err: unknown, where: (offset: number) => Pos, source: string)
   if (source[offset - 1] === '*') offset -= 1;
   if (reason.includes('multiline key')) {
     // YAML notices a line without its colon only on the next line: point at the line itself.
-    const before = source.slice(0, source.lastIndexOf('\n', offset - 1) + 1 || 0).replace(/\s+$/, '');
+    const before = source.slice(0, source.lastIndexOf('\n', offset - 1) + 1 || 0).trimEnd(); // not /\s+$/: that backtracks on a long run of spaces
     const start = before.lastIndexOf('\n') + 1;
     const line = before.slice(start);
     const indent = line.length - line.trimStart().length;
