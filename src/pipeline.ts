@@ -131,7 +131,7 @@ function isDelimiterRow(line: string): boolean {
  * The body (from `from`) with every line that is not part of a table blanked
  * to spaces, line breaks kept: one linear scan. A table is a line with a pipe
  * followed by a delimiter row, and the lines after it up to a blank line,
- * outside fenced code. `blocks` counts the tables; `tooLong` holds the offsets
+ * outside fenced code and HTML comments. `blocks` counts the tables; `tooLong` holds the offsets
  * of tables left out for an overlong line; past MAX_TABLE_LINES table lines
  * the rest is left out, from `cut` on.
  */
@@ -151,6 +151,7 @@ function tableLines(text: string, from: number): { masked: string; blocks: numbe
   let cut: number | undefined;
   let fenceChar = '';
   let fenceLen = 0;
+  let inComment = false;
   const blankLine = (k: number) => text.slice(lines[k].start, lines[k].end).trim() === '';
   for (let k = 0; k < lines.length; k++) {
     const { start, end } = lines[k];
@@ -165,6 +166,15 @@ function tableLines(text: string, from: number): { masked: string; blocks: numbe
         else if (c === fenceChar && j - i >= fenceLen && text.slice(j, end).trim() === '') fenceChar = '';
         continue;
       }
+    }
+    // An HTML comment block (a table commented out) runs to the line that closes it.
+    if (inComment) {
+      if (text.slice(start, end).includes('-->')) inComment = false;
+      continue;
+    }
+    if (!fenceChar && text.startsWith('<!--', i) && i - start < 4) {
+      inComment = !text.slice(i + 4, end).includes('-->');
+      continue;
     }
     if (fenceChar || k === 0 || end - start > MAX_TABLE_LINE * 4) continue;
     const prev = lines[k - 1];

@@ -43,7 +43,7 @@ export function prepare(argv: string[], io: MainIO): Prepared | number {
     o = parseArgs(argv);
   } catch (err) {
     if (err instanceof UsageError) {
-      io.stderr(`polecheck: ${err.message}\n`);
+      io.stderr(`polecheck: ${printable(err.message)}\n`);
       return 2;
     }
     throw err;
@@ -92,7 +92,7 @@ export function prepare(argv: string[], io: MainIO): Prepared | number {
     config = found ? loadConfig(found) : defaultConfig(cwd);
   } catch (err) {
     if (err instanceof ConfigError) {
-      io.stderr(`polecheck: ${err.message}\n`);
+      io.stderr(`polecheck: ${printable(err.message)}\n`);
       return 2;
     }
     throw err;
@@ -105,7 +105,7 @@ export function prepare(argv: string[], io: MainIO): Prepared | number {
     for (const note of notes) io.stderr(`polecheck: ${printable(note)}\n`);
   } catch (err) {
     if (err instanceof UsageError) {
-      io.stderr(`polecheck: ${err.message}\n`);
+      io.stderr(`polecheck: ${printable(err.message)}\n`);
       return 2;
     }
     throw err;

@@ -208,6 +208,17 @@ describe('only regular files are read, within the size limit', () => {
   });
 });
 
+describe('discovery', () => {
+  it('a spec 600 folders deep is found (folders are known by device and inode, not by resolving their real path)', () => {
+    const dir = tmp();
+    const deep = join(dir, ...Array.from({ length: 600 }, () => 'd'));
+    mkdirSync(deep, { recursive: true });
+    writeFileSync(join(deep, 'a.md'), twoStage('  gbw: 23 MHz\n'));
+    const r = run(['--format', 'json', '.'], dir);
+    expect(JSON.parse(r.stdout).files).toHaveLength(1);
+  });
+});
+
 describe('no silent skips', () => {
   it('`polecheck: 1` after 64 KiB of front matter is checked', () => {
     const dir = tmp();
@@ -312,3 +323,18 @@ function utf32(s: string, le: boolean): Buffer {
   cps.forEach((cp, i) => (le ? b.writeUInt32LE(cp, i * 4) : b.writeUInt32BE(cp, i * 4)));
   return b;
 }
+
+describe('the line scan finds the tables Markdown would', () => {
+  it('a table inside an HTML comment is not read', () => {
+    const read = readDocument('t.md', twoStage('  gbw: 23 MHz\n', '\n<!--\n| Parameter | Typ |\n|---|---|\n| GBW | 40 MHz |\n-->\n'));
+    expect(read.kind === 'spec' && read.spec?.claims.filter((c) => c.source === 'table')).toHaveLength(0);
+  });
+  it('a table after a paragraph, with CRLF line ends, is read at the positions of the file', () => {
+    const text = twoStage('  gbw: 23 MHz\n', '\nSome text.\n\n| Parameter | Typ |\n|---|---|\n| GBW | 40 MHz |\n').replace(/\n/g, '\r\n');
+    const read = readDocument('t.md', text);
+    const rows = read.kind === 'spec' ? read.spec!.claims.filter((c) => c.source === 'table') : [];
+    expect(rows).toHaveLength(1);
+    const pos = rows[0].typ!.pos;
+    expect(text.split('\r\n')[pos.line - 1].slice(pos.column - 1)).toBe('40 MHz |');
+  });
+});
