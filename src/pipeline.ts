@@ -96,7 +96,7 @@ export function readDocument(path: string, raw: string): ReadResult {
 }
 
 /** The table lines of a document parsed at most: a datasheet's tables hold far fewer. */
-export const MAX_TABLE_LINES = 1000;
+export const MAX_TABLE_LINES = 500;
 
 /** A datasheet table's line is short; a longer one is not parsed (inline Markdown can be superlinear). */
 export const MAX_TABLE_LINE = 4000;
