@@ -41,9 +41,7 @@ export function readDocument(path: string, raw: string): ReadResult {
   // The front matter is found by its fences (an opening `---` line, the next
   // `---` line closes it), as remark-frontmatter finds it. Markdown parsing
   // dominates the cost of a check and is superlinear on some hostile text: of
-  // the body only the datasheet tables a linear line scan finds are parsed,
-  // everything else blanked to spaces of the same length, so that positions
-  // stay those of the file.
+  // the body only the datasheet tables a linear line scan finds are parsed.
   const open = /^---[ \t]*\r?\n/.exec(text);
   const close = open ? /\n---[ \t]*\r?(?:\n|$)/.exec(text.slice(open[0].length - 1)) : null;
   if (!open || !close) {
@@ -56,16 +54,20 @@ export function readDocument(path: string, raw: string): ReadResult {
   const closeLine = open[0].length - 1 + close.index + 1;
   const headEnd = closeLine + close[0].length - 1;
   const body = tableLines(text, headEnd);
-  let tree: { children: unknown[] } = { children: [] };
+  // Each table is parsed on its own (blank lines cost the parser too), its
+  // positions shifted to the file's.
+  const tree: { children: unknown[] } = { children: [] };
   let bodyProblem: Finding | undefined;
-  if (body.blocks) {
+  for (const [from, to] of body.blocks) {
     try {
-      tree = processor.parse(text.slice(0, headEnd).replace(/[^\r\n]/g, ' ') + body.masked);
+      const at = index.pos(from);
+      const part = processor.parse(text.slice(from, to));
+      shiftPositions(part, from, at.line - 1);
+      tree.children.push(...part.children);
     } catch (err) {
-      // A body nested deeper than the Markdown parser's stack goes: check the
-      // front matter alone and say that the body's tables were not read.
+      // A table nested deeper than the Markdown parser's stack goes: say that it was not read.
       if (!(err instanceof RangeError)) throw err;
-      bodyProblem = { rule: 'table', severity: 'warning', line: index.pos(headEnd).line, column: 1, claim: null, message: 'the Markdown body is nested too deeply to parse; its datasheet tables were not read', suggestions: [] };
+      bodyProblem ??= { rule: 'table', severity: 'warning', line: index.pos(from).line, column: 1, claim: null, message: 'a table is nested too deeply to parse; it was not read', suggestions: [] };
     }
   }
   const start = 0;
@@ -96,7 +98,7 @@ export function readDocument(path: string, raw: string): ReadResult {
 }
 
 /** The table lines of a document parsed at most: a datasheet's tables hold far fewer. */
-export const MAX_TABLE_LINES = 500;
+export const MAX_TABLE_LINES = 200;
 
 /** A datasheet table's line is short; a longer one is not parsed (inline Markdown can be superlinear). */
 export const MAX_TABLE_LINE = 4000;
@@ -128,14 +130,13 @@ function isDelimiterRow(line: string): boolean {
 }
 
 /**
- * The body (from `from`) with every line that is not part of a table blanked
- * to spaces, line breaks kept: one linear scan. A table is a line with a pipe
+ * The body's tables (from `from`), as offset ranges of whole lines: one linear scan. A table is a line with a pipe
  * followed by a delimiter row, and the lines after it up to a blank line,
  * outside fenced code and HTML comments. `blocks` counts the tables; `tooLong` holds the offsets
  * of tables left out for an overlong line; past MAX_TABLE_LINES table lines
  * the rest is left out, from `cut` on.
  */
-function tableLines(text: string, from: number): { masked: string; blocks: number; tooLong: number[]; cut?: number } {
+function tableLines(text: string, from: number): { blocks: Array<[number, number]>; tooLong: number[]; cut?: number } {
   const lines: { start: number; end: number; brk: number }[] = [];
   for (let at = from; at < text.length; ) {
     let nl = text.indexOf('\n', at);
@@ -146,7 +147,7 @@ function tableLines(text: string, from: number): { masked: string; blocks: numbe
   }
   const keep = new Uint8Array(lines.length);
   const tooLong: number[] = [];
-  let blocks = 0;
+  const blocks: Array<[number, number]> = [];
   let kept = 0;
   let cut: number | undefined;
   let fenceChar = '';
@@ -198,15 +199,30 @@ function tableLines(text: string, from: number): { masked: string; blocks: numbe
       cut ??= lines[k + MAX_TABLE_LINES - kept - 1].start;
       last = k + MAX_TABLE_LINES - kept - 2;
     }
-    blocks++;
+    blocks.push([prev.start, lines[last].brk]);
     for (let m = k - 1; m <= last; m++) keep[m] = 1;
     kept += last - k + 2;
     k = last;
   }
-  let masked = '';
-  for (let k = 0; k < lines.length; k++) {
-    const { start, end, brk } = lines[k];
-    masked += keep[k] ? text.slice(start, brk + 1) : ' '.repeat(end - start) + text.slice(end, brk + 1);
+  return { blocks, tooLong, cut };
+}
+
+interface Positioned {
+  position?: { start: { line: number; offset?: number }; end: { line: number; offset?: number } };
+  children?: Positioned[];
+}
+
+/** Moves a parsed fragment's positions to where it stands in the file (whole lines: columns stay). */
+function shiftPositions(node: Positioned, offset: number, lines: number): void {
+  const stack: Positioned[] = [node];
+  while (stack.length) {
+    const n = stack.pop()!;
+    if (n.position) {
+      for (const p of [n.position.start, n.position.end]) {
+        p.line += lines;
+        if (p.offset !== undefined) p.offset += offset;
+      }
+    }
+    if (n.children) stack.push(...n.children);
   }
-  return { masked, blocks, tooLong, cut };
 }
