@@ -18,7 +18,11 @@
 // YAML and Markdown punctuation, unit swaps, number changes, line ends, BOM,
 // truncation); 5…7 generates a random spec of a random topology (plausible or
 // 1e-18…1e18 values, tables with conditions) and mutates it half of the time;
-// 8 is random garbage; 9 is a random spec with values anywhere in 1e-18…1e18.
+// 8 is random garbage; 9 is a random spec with values anywhere in 1e-18…1e18,
+// except that every twentieth document (i % 20 = 19) is one of the second
+// campaign's families (test/fuzz/families.ts: block scalars, cell escapes and
+// entities, encodings without marks read from a file, long lines, deep lists,
+// large networks, giant tables), whose restatements are applied and read back.
 // Document i of seed S is the same on every machine, so a failure is
 // reproduced by `--seed S --index I`.
 //
@@ -39,6 +43,7 @@ import { Worker, isMainThread, parentPort, workerData } from 'node:worker_thread
 if (!isMainThread) await (await import('tsx/esm/api')).register();
 const { checkText } = await import('../src/check.ts');
 const { DEMO_SPECS, applyMutation, findingProblems, randomGarbage, randomMutation, randomSpec, reportProblems, rng } = await import('../test/fuzz/support.ts');
+const { encodingProblems, familyDocument, pickFamily, restateProblems } = await import('../test/fuzz/families.ts');
 
 function parseArgs(argv) {
   const o = { count: 100000, seed: 1, index: undefined, reports: 10, scaling: false, hangMs: 20000 };
@@ -78,6 +83,11 @@ export function documentAt(seed, index) {
       text = applyMutation(text, m);
     }
   };
+  if (index % 20 === 19) {
+    // One document in twenty: a family of the second campaign (test/fuzz/families.ts).
+    const family = pickFamily(r);
+    return { kind: family, source: `family ${family}`, text: familyDocument(r, family), mutations, r };
+  }
   if (kind === 'mutated-demo') {
     const demo = r.pick(DEMO_SPECS);
     source = demo.name;
@@ -100,6 +110,11 @@ export function documentAt(seed, index) {
 function runOne(doc, withReports) {
   let result;
   const t0 = performance.now();
+  if (doc.kind === 'encoding') {
+    // Written to a file in UTF-16 or UTF-32 and read as the command reads it.
+    const problems = encodingProblems(doc.r, doc.text);
+    return { ms: performance.now() - t0, problems, result: { skipped: false, findings: [] } };
+  }
   try {
     result = checkText('fuzz.md', doc.text);
   } catch (err) {
@@ -108,6 +123,14 @@ function runOne(doc, withReports) {
   const ms = performance.now() - t0;
   const problems = findingProblems(result, doc.text);
   if (withReports) problems.push(...reportProblems(result, doc.text));
+  // Restating never corrupts: every planned restatement is applied and read back (families and every tenth document).
+  if (doc.kind === 'block-scalar' || doc.kind === 'cell-escape' || withReports) {
+    try {
+      problems.push(...restateProblems(result, doc.text));
+    } catch (err) {
+      problems.push(`restating throws ${err?.constructor?.name ?? 'a value'}: ${firstLines(err)}`);
+    }
+  }
   return { ms, problems, result };
 }
 
@@ -303,6 +326,7 @@ if (!isMainThread) {
   console.log(`  ${done - skipped} read as specs, ${skipped} skipped as pages, ${findings} findings; reports rendered for every ${o.reports === 1 ? '' : `${o.reports}th `}document`);
   for (const [kind, k] of byKind) console.log(`  ${kind.padEnd(13)} ${String(k.n).padStart(7)} documents, mean ${(k.ms / k.n).toFixed(2)} ms (hangs excluded)`);
   console.log(`  slowest: ${slowest.slice(0, 5).map((x) => `#${x.i} ${x.kind} ${x.ms.toFixed(0)} ms (${x.length} chars)`).join('; ')}`);
+  if (slowest.length) console.log(`  slowest document: #${slowest[0].i} ${slowest[0].kind} ${slowest[0].ms.toFixed(0)} ms (${slowest[0].length} chars) — ${slowest[0].ms <= 1000 ? 'within' : 'OVER'} the 1 s bar; reproduce: node --import tsx bench/fuzz.mjs --seed ${o.seed} --index ${slowest[0].i}`);
   console.log(`  failing documents: ${failed}`);
 
   if (groups.size) {

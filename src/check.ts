@@ -6,7 +6,7 @@
 import { RULES } from '../rules';
 import { typicalValues } from './evaluation';
 import { type Finding, sortFindings } from './findings';
-import type { Model } from './model';
+import { type Model, evaluationCount } from './model';
 import { readDocument } from './pipeline';
 import { type Sheet, sheetOf } from './report/sheet';
 import { type Judged, type OperatingPoint, judgeAll, operatingPoints, recheck } from './points';
@@ -43,6 +43,16 @@ export interface CheckOptions {
   designChanges?: boolean;
 }
 
+/**
+ * Design-change searches per file: each re-judges the whole spec many times,
+ * so a document of thousands of failing statements would take minutes. Repeated
+ * statements share one search; past this many, failing statements are restated only.
+ */
+export const DESIGN_SEARCHES = 24;
+
+/** Model evaluations the design-change searches of a file may start within (a search under way finishes). */
+export const DESIGN_EVALUATIONS = 800;
+
 export function checkText(path: string, text: string, options: CheckOptions = {}): FileResult {
   const read = readDocument(path, text);
   if (read.kind === 'skipped') return { path, skipped: true, findings: [] };
@@ -60,7 +70,14 @@ export function checkText(path: string, text: string, options: CheckOptions = {}
     if (!hit) rechecked.set(key, (hit = recheck(spec, changes, options.tolerances)));
     return hit;
   };
-  if (options.designChanges !== false) for (const p of points) p.context.recheck = recheckOnce;
+  // Each search re-judges every operating point: with many points, fewer searches.
+  const designBudget = { left: Math.max(2, Math.min(DESIGN_SEARCHES, Math.floor((DESIGN_SEARCHES * 4) / points.length))), until: evaluationCount() + DESIGN_EVALUATIONS };
+  if (options.designChanges !== false) {
+    for (const p of points) {
+      p.context.recheck = recheckOnce;
+      p.context.designBudget = designBudget;
+    }
+  }
   const [front, ...rows] = points;
   const claimRules = RULES.filter((r) => r.scope === 'claims');
   const designRules = RULES.filter((r) => r.scope !== 'claims');

@@ -100,8 +100,9 @@ function checkEntry(ctx: RuleContext, def: ClaimRuleSpec, entry: ClaimEntry): Dr
     // A forgotten load is the commonest silent assumption: say it was made.
     const loadStated = ctx.spec.conditions.has('cl') || (entry.conditions !== undefined && 'cl' in entry.conditions.values);
     if (!loadStated && entry.key !== 'dc_gain' && ctx.spec.topology.conditions.some((c) => c.key === 'cl')) message += '; this assumes no load capacitance: the document states no cl';
+    const design = v.outcome === 'fails' ? designChanges(ctx, entry, v, values) : [];
     const fixes: Fix[] = v.outcome === 'fails'
-      ? [...(at.value !== null ? [restate(ctx, entry, v, at.value, at.where)] : []), ...designChanges(ctx, entry, v, values)]
+      ? [...(at.value !== null ? [restate(ctx, entry, v, at.value, at.where)] : []), ...(Array.isArray(design) ? design : [])]
       : [];
     drafts.push({
       line: pos.line,
@@ -111,7 +112,7 @@ function checkEntry(ctx: RuleContext, def: ClaimRuleSpec, entry: ClaimEntry): Dr
       computed: at.value,
       unit,
       message,
-      suggestions: renderFixes(fixes),
+      suggestions: Array.isArray(design) ? renderFixes(fixes) : [...renderFixes(fixes), design.notSearched],
       ...(fixes.length ? { fixes } : {}),
       verdict: {
         bound: v.bound,

@@ -11,7 +11,7 @@
 // The words of `suggestions` are rendered from these.
 
 import type { Fix, TextEdit } from './findings';
-import type { Model } from './model';
+import { type Model, evaluationCount } from './model';
 import type { Judged } from './points';
 import { type Kind, type Written, formatLike, formatQuantity, parseQuantity } from './quantity';
 import type { Recheck, RuleContext } from './rule';
@@ -75,7 +75,7 @@ export function restate(ctx: RuleContext, entry: ClaimEntry, v: BoundVerdict, co
     return { kind: 'restate', text, bound: v.bound, edit: null, refused: `not restated: ${value} would contradict the other statements of \`${entry.label ?? entry.key}\` (min ≤ typ ≤ max)` };
   }
   const edit = editFor(ctx.spec, q, value);
-  return edit ? { kind: 'restate', text, bound: v.bound, edit } : { kind: 'restate', text, bound: v.bound, edit: null, refused: 'not restated: the value is written in a form that cannot be edited in place' };
+  return edit ? { kind: 'restate', text, bound: v.bound, edit } : { kind: 'restate', text, bound: v.bound, edit: null, refused: `not restated: ${q.unedited ?? 'the value is written in a form that cannot be edited in place'}` };
 }
 
 interface Statement {
@@ -275,19 +275,35 @@ const statedText = (j: Judged): string => {
 /** A figure in the unit the claim was written in. */
 const inOwnUnit = (j: Judged, value: number): string => formatLike(value, j.entry[j.verdict.bound]!.quantity.written, j.entry.spec.kind);
 
-function breaksOf(r: Recheck, target: Statement): Judged[] {
-  const seen = new Set<string>();
-  const out: Judged[] = [];
+/** The same statement written again (a repeated table row): same claim, bound, stated value and conditions. */
+const sameStatement = (a: ClaimEntry, b: ClaimEntry, bound: string): boolean =>
+  a.key === b.key && a[bound as 'typ']?.quantity.value === b[bound as 'typ']?.quantity.value && (a.conditions?.text ?? '') === (b.conditions?.text ?? '');
+
+/** A broken statement, and how many more statements fail the same way (repeated rows). */
+interface Broken {
+  j: Judged;
+  more: number;
+}
+
+function breaksOf(r: Recheck, target: Statement): Broken[] {
+  const groups = new Map<string, Broken & { lines: Set<string> }>();
   for (const j of r.judged) {
     if (j.verdict.outcome !== 'fails') continue;
     if (j.entry === target.entry || (j.entry.keyPos.line === target.entry.keyPos.line && j.entry.key === target.entry.key && j.verdict.bound === target.bound)) continue;
-    // Each broken statement once (a claim judged at several points is listed at the first).
-    const id = `${j.entry.key}:${j.entry.keyPos.line}:${j.verdict.bound}`;
-    if (seen.has(id)) continue;
-    seen.add(id);
-    out.push(j);
+    // A repetition of the target itself is the target: its fate is the claim's own.
+    if (j.verdict.bound === target.bound && sameStatement(j.entry, target.entry, target.bound)) continue;
+    // Each broken statement once (a claim judged at several points is listed at
+    // the first), and statements alike in all but their line as one.
+    const id = `${j.entry.key}:${j.verdict.bound}:${j.entry[j.verdict.bound]?.quantity.value}:${j.entry.conditions?.text ?? ''}:${j.value}:${j.label}`;
+    const line = `${j.entry.key}:${j.entry.keyPos.line}:${j.verdict.bound}`;
+    const g = groups.get(id);
+    if (!g) groups.set(id, { j, more: 0, lines: new Set([line]) });
+    else if (!g.lines.has(line)) {
+      g.lines.add(line);
+      g.more++;
+    }
   }
-  return out;
+  return [...groups.values()].map(({ j, more }) => ({ j, more }));
 }
 
 function designFix(ctx: RuleContext, target: Statement, changes: Values, why: string | undefined, r: Recheck): Fix {
@@ -311,9 +327,10 @@ function designFix(ctx: RuleContext, target: Statement, changes: Values, why: st
   const before = ctx.recheck ? ctx.recheck({}).judged : [];
   const unchanged = (b: Judged): boolean =>
     before.some((x) => x.entry.key === b.entry.key && x.entry.keyPos.line === b.entry.keyPos.line && x.verdict.bound === b.verdict.bound && x.verdict.outcome === 'fails' && (x.value === b.value || (x.value !== null && b.value !== null && Math.abs(x.value - b.value) <= 1e-9 * Math.abs(x.value))));
-  for (const b of broken) {
+  for (const { j: b, more } of broken) {
     const what = b.value === null ? 'has no value' : unchanged(b) ? `still fails at ${inOwnUnit(b, b.value)}` : `becomes ${inOwnUnit(b, b.value)}`;
-    effects.push(`${b.entry.key}${b.entry.source === 'table' ? ` (${b.entry.label}, line ${b.entry.keyPos.line})` : ''} ${what}${b.label !== 'typical' ? ` at ${b.label}` : ''} (claimed ${statedText(b)})`);
+    const rows = more ? ` and ${more} more row${more === 1 ? '' : 's'} alike` : '';
+    effects.push(`${b.entry.key}${b.entry.source === 'table' ? ` (${b.entry.label}, line ${b.entry.keyPos.line}${rows})` : ''} ${what}${b.label !== 'typical' ? ` at ${b.label}` : ''} (claimed ${statedText(b)})`);
   }
   if (!r.stable) effects.push('the closed loop is not stable at every operating point');
   const effect = effects.length === 0 ? 'and the other claims still hold' : `but then ${effects.join('; ')}`;
@@ -325,7 +342,7 @@ function designFix(ctx: RuleContext, target: Statement, changes: Values, why: st
     gives,
     stable: r.stable,
     meetsAll,
-    breaks: broken.map((b) => ({ claim: b.entry.key, line: b.entry.keyPos.line, value: b.value })),
+    breaks: broken.map(({ j: b }) => ({ claim: b.entry.key, line: b.entry.keyPos.line, value: b.value })),
   };
 }
 
@@ -334,7 +351,38 @@ const worstValues = (r: Recheck | undefined, s: Statement, fallback: Values): Va
   r?.judged.find((j) => j.entry.key === s.entry.key && j.verdict.bound === s.bound && j.entry.keyPos.line === s.entry.keyPos.line)?.values ?? fallback;
 
 /** (b) and (c): design changes that make the statement hold, each re-judged against the whole spec. */
-export function designChanges(ctx: RuleContext, entry: ClaimEntry, v: BoundVerdict, at: Values): Fix[] {
+const searched = new WeakMap<RuleContext, Map<string, Fix[]>>();
+
+/** Says that a failing statement got no design-change search: the file's budget was spent. */
+export const BUDGET_SPENT = 'design changes are searched for the first failing statements of a file only; correct those first, or restate this one';
+
+/** Networks above this many nodes get no design-change search: it evaluates the model hundreds of times, each O(n³) per frequency. */
+export const MAX_SEARCH_NODES = 10;
+const TOO_LARGE = `design changes are not searched for a network of more than ${MAX_SEARCH_NODES} nodes (each search evaluates the model hundreds of times)`;
+
+/**
+ * (b) and (c), shared by repeated statements (a table row written again at
+ * the same conditions gets the first one's changes) and within the file's
+ * budget of searches; why not, when the budget is spent or the network too large.
+ */
+export function designChanges(ctx: RuleContext, entry: ClaimEntry, v: BoundVerdict, at: Values): Fix[] | { notSearched: string } {
+  if (ctx.model.analysis.stamped.n > MAX_SEARCH_NODES && (ctx.spec.topology.knobs[entry.key] ?? []).length) return { notSearched: TOO_LARGE };
+  let memo = searched.get(ctx);
+  if (!memo) searched.set(ctx, (memo = new Map()));
+  let key = `${entry.key}|${v.bound}|${entry.typ?.quantity.value}|${entry.min?.quantity.value}|${entry.max?.quantity.value}|`;
+  for (const k in at) key += `${k}:${at[k]};`;
+  const hit = memo.get(key);
+  if (hit) return hit;
+  if (ctx.designBudget) {
+    if (ctx.designBudget.left <= 0 || evaluationCount() > ctx.designBudget.until) return { notSearched: BUDGET_SPENT };
+    ctx.designBudget.left--;
+  }
+  const fixes = searchDesignChanges(ctx, entry, v, at);
+  memo.set(key, fixes);
+  return fixes;
+}
+
+function searchDesignChanges(ctx: RuleContext, entry: ClaimEntry, v: BoundVerdict, at: Values): Fix[] {
   const topo = ctx.spec.topology;
   const kind = entry.spec.kind;
   // A design that beats its typical claim is not to be made worse: only the claim is stale.
@@ -439,6 +487,7 @@ function solvePair(ctx: RuleContext, target: Statement, knobs: KeySpec[], at: Va
   }
   candidates.sort((x, y) => x.distance - y.distance);
   for (const c of candidates.slice(0, 8)) {
+    if (ctx.designBudget && evaluationCount() > ctx.designBudget.until) break;
     const r = ctx.recheck!(c.changes);
     if (r.stable && r.judged.every((j) => j.verdict.outcome !== 'fails')) return c.changes;
   }

@@ -28,7 +28,13 @@ const hz = (r: Root): string => {
   return r.im === 0 ? `${(Math.sign(r.re) * f).toPrecision(4)} Hz` : `${f.toPrecision(4)} Hz (complex, Re ${(r.re / (2 * Math.PI)).toPrecision(3)} Hz)`;
 };
 
+let evaluations = 0;
+
+/** Models evaluated so far in this thread: the work counter that bounds a file's design-change searches. */
+export const evaluationCount = (): number => evaluations;
+
 export function evaluate(topology: Topology, values: Values): Model {
+  evaluations++;
   let analysis: NetworkAnalysis;
   try {
     analysis = analyzeNetwork(topology.network(values));

@@ -22,6 +22,12 @@ export interface RuleContext {
   withChanges(changes: Values): Model | null;
   /** The whole spec (every operating point, bounds at their worst case) judged again with params changed; memoized per file. */
   recheck?(changes: Values): Recheck;
+  /**
+   * The file's budget of design-change searches (shared by its operating
+   * points): each failing statement of a new kind spends one; once spent,
+   * failing statements get their restatement only, and say so.
+   */
+  designBudget?: { left: number; until: number };
 }
 
 export interface Recheck {

@@ -100,6 +100,12 @@ export function offBy(v: BoundVerdict, computed: number, kind: Kind, t?: Toleran
     const fails = v.outcome === 'fails';
     while (digits < 7 && (fails ? !(valueOf(digits) > limit) : !(valueOf(digits) <= limit))) digits++;
   }
+  // A figure a hundred times the claim or more reads as a factor, not as a percentage of many digits.
+  if (rel && size >= 1e4 && v.claimed !== 0 && Number.isFinite(size)) {
+    const ratio = Math.abs(computed / v.claimed);
+    const factor = ratio < 1e6 ? String(Number(ratio.toPrecision(3))) : ratio.toExponential(2).replace('e+', 'e');
+    return `${factor} times the ${v.bound === 'typ' ? 'claim' : 'bound'}`;
+  }
   const amount = show(digits);
   if (v.bound === 'min') return v.outcome === 'fails' ? `${amount} short` : `only ${amount} above the bound`;
   if (v.bound === 'max') return v.outcome === 'fails' ? `${amount} over` : `only ${amount} below the bound`;

@@ -6,7 +6,7 @@
 
 import { type CheckOptions, type FileResult, checkText } from '../check';
 import type { Finding } from '../findings';
-import { type Edit, applyEdits, planFixes } from '../fix';
+import { type Edit, applyEdits, planFixes, restatedProblem } from '../fix';
 import type { Sheet } from '../report/sheet';
 
 export interface JobSettings {
@@ -37,6 +37,8 @@ export interface Outcome extends Checked {
     text: string;
     fixed: string;
     edits: Edit[];
+    /** Why the edits are not written: the restated text did not read back as planned. */
+    refused?: string;
     /** The fixed text checked, for the report once the fix is written. */
     after?: Checked;
   };
@@ -58,6 +60,11 @@ export function checkOne(path: string, text: string, s: JobSettings, review?: Re
     const edits = planFixes(r, bom ? text.slice(1) : text, { bounds: s.fix.bounds });
     if (edits.length) {
       const fixed = applyEdits(text, edits, bom ? 1 : 0);
+      const refused = restatedProblem(bom ? text.slice(1) : text, bom ? fixed.slice(1) : fixed, edits);
+      if (refused) {
+        out.fix = { text, fixed: text, edits: [], refused };
+        return out;
+      }
       out.fix = { text, fixed, edits };
       if (s.fix.recheck) out.fix.after = lighten(checkText(path, fixed, s.check), review);
     }

@@ -24,6 +24,7 @@ import { type Plan, checkInThread } from './plan';
 import { checkInWorkers } from './pool';
 import { writeFixes } from './write';
 import { runSync } from '../sync/sync';
+import { printable } from '../report/text';
 
 export interface MainIO {
   stdout: (s: string) => void;
@@ -46,7 +47,7 @@ export function prepare(argv: string[], io: MainIO): Prepared | number {
     o = parseArgs(argv);
   } catch (err) {
     if (err instanceof UsageError) {
-      io.stderr(`polecheck: ${err.message}\n`);
+      io.stderr(`polecheck: ${printable(err.message)}\n`);
       return 2;
     }
     throw err;
@@ -105,18 +106,20 @@ export function prepare(argv: string[], io: MainIO): Prepared | number {
     config = found ? loadConfig(found) : defaultConfig(cwd);
   } catch (err) {
     if (err instanceof ConfigError) {
-      io.stderr(`polecheck: ${err.message}\n`);
+      io.stderr(`polecheck: ${printable(err.message)}\n`);
       return 2;
     }
     throw err;
   }
 
   let files: string[];
+  const notes: string[] = [];
   try {
-    files = selectFiles(o, config, cwd);
+    files = selectFiles(o, config, cwd, notes);
+    for (const note of notes) io.stderr(`polecheck: ${printable(note)}\n`);
   } catch (err) {
     if (err instanceof UsageError) {
-      io.stderr(`polecheck: ${err.message}\n`);
+      io.stderr(`polecheck: ${printable(err.message)}\n`);
       return 2;
     }
     throw err;

@@ -204,8 +204,12 @@ function polish(A: Float64Array, B: Float64Array, n: number, start: Root[], fixe
   // plain Newton step that is tiny beside it (also for a multiple root, where
   // it is (s − r)/m). An estimate that Aberth's repulsion parked between roots,
   // or one far out where A + sB ≈ sB, fails it.
+  // Trusted roots are checked too (one factorisation each, O(n⁴) over all of
+  // them): a pencil with no finite root at all (an RC ladder's transfer has no
+  // zeros) has every estimate from infinite eigenvalues split by round-off,
+  // all within six decades of each other.
   for (let k = 0; k < roots.length; k++) {
-    if (rejected[k] || trusted[k]) continue;
+    if (rejected[k]) continue;
     const d = logDerivative(A, B, n, roots[k], work);
     if (!d) continue; // exactly singular: a root
     const t = Math.hypot(d[0], d[1]);

@@ -145,7 +145,8 @@ export function formatQuantity(value: number, kind: Kind, digits = 3): string {
 
 /** The author's written number format applied to `x`. */
 function numberLike(x: number, like: Written): string {
-  const sig = Math.max(2, Math.min(21, like.sigDigits));
+  // At most eight significant digits: more is noise beside a first-order estimate.
+  const sig = Math.max(2, Math.min(8, like.sigDigits));
   const e = like.number.includes('E') ? 'E' : 'e';
   if (HAS_EXPONENT_RE.test(like.number)) {
     return x === 0 ? toFixedDecimal(0, Math.min(like.decimals, 20)) : expForm(sigParts(x, sig), e);
@@ -192,6 +193,10 @@ export function formatLike(value: number, like: Written, kind: Kind): string {
       x = v;
   }
   if (!Number.isFinite(x)) return formatQuantity(v, kind);
+  // Far above what the author wrote in that unit (`10 Hz` for a figure of
+  // 430 MHz), the author's unit would print every digit: the quantity's own
+  // prefix and a sensible precision read better.
+  if ((like.style === 'si' || like.style === 'rad/s') && Math.abs(x) >= 10 ** Math.max(4, Math.min(8, like.sigDigits))) return formatQuantity(v, kind, Math.max(3, Math.min(8, like.sigDigits)));
   const num = numberLike(x, like);
   if (like.style === 'bare') return num;
   return num + separator(like) + like.unit;

@@ -55,9 +55,13 @@ const sentence = (s: string): string => {
   return /[.?!]$/.test(t) ? t : `${t}.`;
 };
 
-/** The path as given, with forward slashes and without a leading `./`. */
-export function portablePath(path: string): string {
-  return path.replace(/\\/g, '/').replace(/^(\.\/)+/, '');
+/**
+ * The path as given, without a leading `./`; on Windows with forward slashes.
+ * Elsewhere a backslash is a character of a file name (`back\\slash.md`), kept
+ * (and percent-encoded in the URI).
+ */
+export function portablePath(path: string, platform: string = process.platform): string {
+  return (platform === 'win32' ? path.replace(/\\/g, '/') : path).replace(/^(\.\/)+/, '');
 }
 
 const isAbsolutePath = (p: string): boolean => p.startsWith('/') || /^[A-Za-z]:\//.test(p) || p.startsWith('//');

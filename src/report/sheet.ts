@@ -3,6 +3,7 @@
 // and the findings. Every judged statement is a row, holding ones included, so
 // the text report can show the whole block at a glance.
 
+import type { Finding } from '../findings';
 import type { FileResult } from '../check';
 import { conditionsText } from '../evaluation';
 import { formatLike } from '../quantity';
@@ -43,6 +44,12 @@ export function sheetOf(r: FileResult): Sheet | undefined {
   const front = r.points[0].context;
   const inLoop = spec.topology.conditions.some((c) => c.key === 'beta');
   const rows: SheetRow[] = [];
+  // Findings by statement, so that a sheet of many rows is made in linear time.
+  const byPlace = new Map<string, Finding>();
+  for (const f of r.findings) {
+    const k = `${f.claim}:${f.line}:${f.column}:${f.verdict?.bound}`;
+    if (!byPlace.has(k)) byPlace.set(k, f);
+  }
   for (const j of r.statements ?? []) {
     const e = j.entry;
     const q = e[j.verdict.bound]!;
@@ -51,7 +58,7 @@ export function sheetOf(r: FileResult): Sheet | undefined {
     const t = toleranceFor(kind, front.tolerances);
     const fig = j.value;
     // The finding of this statement, if any, decided its outcome (a waived one is listed as such).
-    const own = r.findings.find((f) => f.claim === e.key && f.line === pos.line && f.column === pos.column && f.verdict?.bound === j.verdict.bound);
+    const own = byPlace.get(`${e.key}:${pos.line}:${pos.column}:${j.verdict.bound}`);
     const outcome = own?.verdict?.outcome ?? (j.verdict.outcome === 'fails' ? 'fails' : 'holds');
     // A figure that does not exist yet holds is an unbounded one (a gain margin nothing limits, no right-half-plane zero).
     const model = fig !== null ? formatLike(fig, q.quantity.written, kind) : outcome === 'holds' ? (e.key === 'rhp_zero' ? 'none in the right half-plane' : 'unbounded') : 'none';

@@ -21,7 +21,7 @@ export type SheetResult = FileResult & { sheet?: Sheet };
  * or a value cannot move the cursor, reorder a line or hide in it.
  */
 export function printable(s: string): string {
-  return s.replace(/[\u0000-\u0008\u000b-\u001f\u007f-\u009f\u200b-\u200f\u202a-\u202e\u2060-\u2069\ufeff\n]/g, (c) => (c === '\n' ? '\\n' : `\\u{${c.codePointAt(0)!.toString(16)}}`));
+  return s.replace(/[\u0000-\u0008\u000b-\u001f\u007f-\u009f\u00ad\u061c\u180e\u200b-\u200f\u2028-\u202e\u2060-\u2069\ufeff\ufff9-\ufffb\n]/g, (c) => (c === '\n' ? '\\n' : `\\u{${c.codePointAt(0)!.toString(16)}}`));
 }
 
 const pad = (s: string, n: number): string => s + ' '.repeat(Math.max(0, n - [...s].length));
@@ -49,10 +49,19 @@ export function textReport(results: SheetResult[], p: Paint, opts: TextOptions =
       blocks++;
       claims += sheet.rows.length;
       const loop = sheet.stability === undefined ? '' : sheet.stability === 'stable' ? ' · loop stable' : sheet.stability === 'unstable' ? ` · ${p.red('loop UNSTABLE')}` : ` · ${p.yellow('loop stability unknown')}`;
-      out.push(`${p.bold(printable(sheet.block))}${sheet.title ? ` — ${printable(sheet.title)}` : ''} · ${sheet.topology}${sheet.point ? ` · ${sheet.point}` : ''}${loop}`);
+      out.push(`${p.bold(printable(sheet.block))}${sheet.title ? ` — ${printable(sheet.title)}` : ''} · ${sheet.topology}${sheet.point ? ` · ${printable(sheet.point)}` : ''}${loop}`);
       out.push(`  ${p.dim(path)}`);
+      // The findings of each row, by its place: a sheet of many rows is written in linear time.
+      const byRow = new Map<string, Finding[]>();
+      for (const f of r.findings) {
+        if (!f.verdict) continue;
+        const k = `${f.claim}:${f.line}:${f.column}`;
+        const list = byRow.get(k);
+        if (list) list.push(f);
+        else byRow.set(k, [f]);
+      }
       const shown = sheet.rows.filter((row) => row.outcome !== 'holds' && (!opts.errorsOnly || (row.outcome === 'fails' && !row.waived)));
-      const name = (row: SheetRow) => (row.where ? `${row.key} (${printable(row.where)})` : row.key);
+      const name = (row: SheetRow) => (row.where ? `${printable(row.key)} (${printable(row.where)})` : printable(row.key));
       // A long table-row name does not widen the whole block: it stands on its
       // own line and its figures follow beneath, in the block's columns.
       const KEY_WIDTH = 28;
@@ -73,12 +82,13 @@ export function textReport(results: SheetResult[], p: Paint, opts: TextOptions =
         else out.push(`  ${mark} ${pad(name(row), w.key)}  ${figures}`);
         if (row.at) out.push(`         ${p.dim(`worst at ${printable(row.at)}`)}`);
         if (row.waived) out.push(`         ${p.dim(`accepted: ${printable(row.waived)}`)}`);
-        for (const f of r.findings.filter((x) => x.claim === row.key && x.line === row.line && x.column === row.column && x.verdict)) {
+        for (const f of byRow.get(`${row.key}:${row.line}:${row.column}`) ?? []) {
           inSheet.add(key(f));
           for (const s of f.suggestions) out.push(`         ${p.dim('↳')} ${printable(s)}`);
         }
       }
-      for (const f of r.findings) if (f.verdict && sheet.rows.some((row) => row.key === f.claim && row.line === f.line && row.column === f.column)) inSheet.add(key(f));
+      const rowPlaces = new Set(sheet.rows.map((row) => `${row.key}:${row.line}:${row.column}`));
+      for (const f of r.findings) if (f.verdict && rowPlaces.has(`${f.claim}:${f.line}:${f.column}`)) inSheet.add(key(f));
       const holding = sheet.rows.filter((row) => row.outcome === 'holds');
       if (holding.length && !opts.errorsOnly) {
         // One line, wrapped at about 100 columns under its own indent.
@@ -88,7 +98,7 @@ export function textReport(results: SheetResult[], p: Paint, opts: TextOptions =
         for (const row of holding) {
           const at = `${name(row)}\u0000${row.model}\u0000${row.line}`;
           const bound = /^[≥≤]/.test(row.stated) ? ` (${printable(row.stated)})` : '';
-          byRow.set(at, (byRow.get(at) ?? `${name(row)} ${row.model}`) + bound);
+          byRow.set(at, (byRow.get(at) ?? `${name(row)} ${printable(row.model)}`) + bound);
         }
         const items = [...byRow.values()];
         let current = '';

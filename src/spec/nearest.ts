@@ -16,17 +16,20 @@ export function editDistance(a: string, b: string): number {
 
 /** The closest candidate, or undefined when nothing is reasonably close. */
 export function nearest(word: string, candidates: readonly string[]): string | undefined {
+  // Short words are near everything: allow one edit below four letters, then about a third of the word.
+  const allowed = word.length < 4 ? 1 : Math.max(2, Math.floor(word.length / 3));
   const w = word.toLowerCase();
   let best: string | undefined;
   let bestD = Infinity;
   for (const c of candidates) {
+    // The lengths alone bound the distance from below: far longer or shorter words are not compared.
+    const gap = Math.abs(c.length - w.length);
+    if (gap > allowed || gap >= bestD) continue;
     const dist = editDistance(w, c.toLowerCase());
     if (dist < bestD) {
       bestD = dist;
       best = c;
     }
   }
-  // Short words are near everything: allow one edit below four letters, then about a third of the word.
-  const allowed = word.length < 4 ? 1 : Math.max(2, Math.floor(word.length / 3));
   return best !== undefined && bestD <= allowed ? best : undefined;
 }

@@ -27,12 +27,32 @@ class Collector {
   note(rule: string, pos: Pos, message: string): void {
     this.findings.push({ rule, severity: 'note', line: pos.line, column: pos.column, claim: null, message, suggestions: [] });
   }
+  private unknown = 0;
+  private unlisted?: Pos;
   unknownKey(pos: Pos, key: string, where: string, valid: readonly string[]): void {
+    // A document of thousands of unknown keys is named by its first ones and a count.
+    if (++this.unknown > MAX_UNKNOWN_KEYS) {
+      this.unlisted ??= pos;
+      return;
+    }
     const near = nearest(key, valid);
-    const msg = near ? `unknown key \`${key}\` in ${where}; did you mean \`${near}\`?` : `unknown key \`${key}\` in ${where}; expected one of ${valid.map((k) => `\`${k}\``).join(', ')}`;
-    this.error('unknown-key', pos, msg, near ? [`rename \`${key}\` to \`${near}\``] : []);
+    const shown = clip(key);
+    const msg = near ? `unknown key \`${shown}\` in ${where}; did you mean \`${near}\`?` : `unknown key \`${shown}\` in ${where}; expected one of ${valid.map((k) => `\`${k}\``).join(', ')}`;
+    this.error('unknown-key', pos, msg, near ? [`rename \`${shown}\` to \`${near}\``] : []);
+  }
+  /** The findings, with the count of unknown keys past the first MAX_UNKNOWN_KEYS. */
+  done(): Finding[] {
+    if (this.unlisted) this.error('unknown-key', this.unlisted, `${this.unknown - MAX_UNKNOWN_KEYS} more unknown keys from here on (only the first ${MAX_UNKNOWN_KEYS} are listed)`);
+    this.unlisted = undefined;
+    return this.findings;
   }
 }
+
+/** The largest user-defined network solved (nodes besides ground): its analysis is O(n³) per frequency. */
+export const MAX_NETWORK_NODES = 64;
+
+/** Unknown keys reported one by one; the rest are counted. */
+export const MAX_UNKNOWN_KEYS = 100;
 
 /** Long values are quoted by their start only: a message stays readable. */
 const clip = (text: string): string => (text.length > 80 ? `${text.slice(0, 77)}…` : text);
@@ -321,6 +341,7 @@ function readNetwork(c: Collector, entry: YEntry): { topology: Topology; values:
   if (!input) (c.error('front-matter', v.pos, '`network` needs `input:`, the node driven by the input source'), (ok = false));
   if (!output) (c.error('front-matter', v.pos, '`network` needs `output:`, the node whose voltage is the output'), (ok = false));
   if (!nodes) (c.error('front-matter', (get('nodes') ?? entry).keyPos, '`network` needs `nodes:`, a list of every node but ground (0 or gnd), e.g. `[in, n1, out]`'), (ok = false));
+  else if (nodes.length > MAX_NETWORK_NODES) (c.error('front-matter', get('nodes')!.keyPos, `\`network\` declares ${nodes.length} nodes; polecheck solves networks of at most ${MAX_NETWORK_NODES} nodes (each evaluation costs O(n³) per frequency): lump the network, or check it in a circuit simulator`), (ok = false));
   if (!elementsNode || elementsNode.kind !== 'map') {
     c.error('front-matter', (get('elements') ?? entry).keyPos, '`network` needs `elements:`, a mapping from element names to `{kind, between|into/control, value}`');
     return undefined;
@@ -576,17 +597,17 @@ export function readSpec(path: string, root: YMap, start: Pos): { spec: Spec | n
   const version = get('polecheck')!;
   if (scalarText(version.value)?.trim() !== String(FORMAT_VERSION)) {
     c.error('front-matter', version.value.pos, `unsupported format version \`polecheck: ${scalarText(version.value) ?? '…'}\`; this polecheck reads version ${FORMAT_VERSION}`);
-    return { spec: null, findings: c.findings };
+    return { spec: null, findings: c.done() };
   }
   const topo = get('topology');
   if (!topo) {
     c.error('front-matter', start, `the front matter needs \`topology:\`, one of ${TOPOLOGIES.map((t) => `\`${t.id}\``).join(', ')}`);
-    return { spec: null, findings: c.findings };
+    return { spec: null, findings: c.done() };
   }
   const topoName = scalarText(topo.value)?.trim() ?? '';
   if (!topoName) {
     c.error('front-matter', topo.value.pos, `\`topology\` takes the name of a topology: ${[...TOPOLOGIES.map((t) => t.id), 'network'].join(', ')}`);
-    return { spec: null, findings: c.findings };
+    return { spec: null, findings: c.done() };
   }
   let topology = TOPOLOGIES.find((t) => t.id === topoName);
   let paramsNode: YNode | undefined = get('params')?.value;
@@ -594,11 +615,11 @@ export function readSpec(path: string, root: YMap, start: Pos): { spec: Spec | n
     const net = get('network');
     if (!net) {
       c.error('front-matter', topo.keyPos, '`topology: network` needs a `network:` block describing the nodes and elements');
-      return { spec: null, findings: c.findings };
+      return { spec: null, findings: c.done() };
     }
     if (get('params')) c.error('front-matter', get('params')!.keyPos, 'with `topology: network` the element values go in `network.elements` (`value:`), not in `params`');
     const read = readNetwork(c, net);
-    if (!read) return { spec: null, findings: c.findings };
+    if (!read) return { spec: null, findings: c.done() };
     topology = read.topology;
     paramsNode = read.values;
   } else if (get('network')) {
@@ -608,7 +629,7 @@ export function readSpec(path: string, root: YMap, start: Pos): { spec: Spec | n
     const ids = [...TOPOLOGIES.map((t) => t.id), 'network'];
     const near = nearest(topoName, ids);
     c.error('unknown-key', topo.value.pos, `unknown topology \`${topoName}\`${near ? `; did you mean \`${near}\`?` : `; known: ${ids.join(', ')}`}`, near ? [`write \`topology: ${near}\``] : []);
-    return { spec: null, findings: c.findings };
+    return { spec: null, findings: c.done() };
   }
   const paramsEntry = topoName === 'network' ? get('network') : get('params');
   // Design quantities, and values written as expressions over them and over each other.
@@ -658,5 +679,5 @@ export function readSpec(path: string, root: YMap, start: Pos): { spec: Spec | n
   const spec: Spec | null = complete
     ? { path, block, title, topology, topologyPos: topo.value.pos, params, conditions, claims, start, paramsPos, waivers: readWaivers(c, get('waivers')), ...(design.size ? { design } : {}), ...(derived ? { derived } : {}) }
     : null;
-  return { spec, findings: c.findings };
+  return { spec, findings: c.done() };
 }

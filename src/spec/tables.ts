@@ -85,15 +85,45 @@ function firstTextPos(n: MdNode): Pos | undefined {
 interface Cell {
   text: string;
   pos: Pos;
+  /**
+   * Offsets of the cell's text in the source, when the source spells exactly
+   * the text (no escapes, entities or inline markup), so that an edit there
+   * changes what the cell reads; otherwise why it cannot be edited.
+   */
+  span: { start: number; end: number } | { refused: string };
 }
 
-function cellOf(n: MdNode | undefined): Cell | undefined {
+interface MdEnd {
+  position?: { start: { offset?: number }; end?: { offset?: number } };
+}
+
+function cellOf(n: MdNode | undefined, source: string): Cell | undefined {
   if (!n?.position) return undefined;
   const raw = text(n);
   const start = firstTextPos(n) ?? { line: n.position.start.line, column: n.position.start.column, offset: n.position.start.offset ?? 0 };
   // Point at the first visible character, past leading spaces of the text.
   const lead = raw.length - raw.trimStart().length;
-  return { text: raw.trim(), pos: { ...start, column: start.column + lead, offset: start.offset + lead } };
+  const shown = raw.trim();
+  const pos = { ...start, column: start.column + lead, offset: start.offset + lead };
+  // The cell's own source, between its pipes: an edit is made there only if it spells the text as read.
+  const from = n.position.start.offset;
+  const to = (n as MdEnd).position?.end?.offset;
+  let span: Cell['span'] = { refused: 'its source could not be located' };
+  if (from !== undefined && to !== undefined) {
+    let a = from;
+    let b = to;
+    if (source[a] === '|') a++;
+    if (b > a && source[b - 1] === '|' && source[b - 2] !== '\\') b--;
+    while (a < b && (source[a] === ' ' || source[a] === '\t')) a++;
+    while (b > a && (source[b - 1] === ' ' || source[b - 1] === '\t')) b--;
+    const written = source.slice(a, b);
+    if (written === shown) span = { start: a, end: b };
+    else {
+      const how = /\\[!-\/:-@[-`{-~]/.test(written) ? 'a backslash escape' : /&(?:#\d+|#[xX][0-9a-fA-F]+|[A-Za-z][A-Za-z0-9]*);/.test(written) ? 'an HTML entity' : 'Markdown markup';
+      span = { refused: `the cell \`${written.length > 40 ? `${written.slice(0, 37)}…` : written}\` is written with ${how}, so its text is not where it reads; restate it by hand` };
+    }
+  }
+  return { text: shown, pos, span };
 }
 
 export interface TableResult {
@@ -266,23 +296,24 @@ function readBound(cell: Cell | undefined, unitCell: Cell | undefined, kind: Kin
     out.push(finding('wrong-unit', 'error', cell.pos, `\`${key}\` cell \`${cell.text}\`${bare && unit ? ` with unit \`${unit}\`` : ''}: ${q.message}`, q.hint ? [`write \`${q.hint}\``] : [], key));
     return null;
   }
-  return { quantity: q.quantity, pos: cell.pos, span: { start: cell.pos.offset, end: cell.pos.offset + cell.text.length, ...(bare && unit ? { numberOnly: true } : {}) } };
+  if ('refused' in cell.span) return { quantity: q.quantity, pos: cell.pos, unedited: cell.span.refused };
+  return { quantity: q.quantity, pos: cell.pos, span: { start: cell.span.start, end: cell.span.end, ...(bare && unit ? { numberOnly: true } : {}) } };
 }
 
-export function readTables(tree: { children: MdNode[] }, topology: Topology): TableResult {
+export function readTables(tree: { children: MdNode[] }, topology: Topology, source: string): TableResult {
   const claims: ClaimEntry[] = [];
   const findings: Finding[] = [];
   // Iterative, in document order: a body may nest deeper than the call stack.
   const stack: MdNode[] = [...tree.children].reverse();
   while (stack.length) {
     const n = stack.pop()!;
-    if (n.type === 'table') readTable(n, topology, claims, findings);
+    if (n.type === 'table') readTable(n, topology, claims, findings, source);
     else if (n.children) for (let i = n.children.length - 1; i >= 0; i--) stack.push(n.children[i]);
   }
   return { claims, findings };
 }
 
-function readTable(table: MdNode, topology: Topology, claims: ClaimEntry[], findings: Finding[]): void {
+function readTable(table: MdNode, topology: Topology, claims: ClaimEntry[], findings: Finding[], source: string): void {
   const rows = table.children ?? [];
   if (rows.length < 2) return;
   const header = (rows[0].children ?? []).map((c) => norm(text(c)));
@@ -296,7 +327,7 @@ function readTable(table: MdNode, topology: Topology, claims: ClaimEntry[], find
   const aliasNames = Object.entries(CLAIM_ALIASES).flatMap(([k, a]) => [k, ...a]);
   for (const row of rows.slice(1)) {
     const cells = row.children ?? [];
-    const get = (i: number) => (i >= 0 ? cellOf(cells[i]) : undefined);
+    const get = (i: number) => (i >= 0 ? cellOf(cells[i], source) : undefined);
     const name = get(iParam);
     if (!name || !name.text) continue;
     const symbol = get(iSymbol);

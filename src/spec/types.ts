@@ -13,6 +13,8 @@ export interface QuantityAt {
    * column, the number alone (`numberOnly`).
    */
   span?: { start: number; end: number; numberOnly?: boolean };
+  /** Why the value has no span to edit, when its source does not spell it (a table cell with an escape or entity). */
+  unedited?: string;
 }
 
 /** A param or condition: one value, or a range of them. */

@@ -53,6 +53,8 @@ export type YamlResult = { ok: true; root: YNode | null } | { ok: false; error: 
 
 const EVENT = { DOCUMENT: 1, SEQUENCE: 2, MAPPING: 3, SCALAR: 4, ALIAS: 5, POP: 6 } as const;
 const PLAIN = 1;
+const LITERAL = 4;
+const FOLDED = 5;
 
 /** Aliases are a YAML feature no spec needs; a bound keeps expansion attacks out. */
 const MAX_ALIASES = 50;
@@ -103,26 +105,58 @@ function buildTree(source: string, events: Event[], where: (offset: number) => P
   const readNode = (ev: Event, fallback?: Pos): YNode => {
     if (ev.type === EVENT.SCALAR) {
       const empty = ev.valueStart < 0;
+      const block = ev.style === LITERAL || ev.style === FOLDED;
       const node: YScalar = { kind: 'scalar', text: empty ? '' : getScalarValue(source, ev), plain: ev.style === PLAIN, pos: empty ? (fallback ?? where(0)) : where(ev.valueStart) };
-      if (ev.style !== PLAIN && ev.valueStart > 0) node.pos = where(ev.valueStart - 1); // point at the opening quote
-      if (!empty) node.span = [where(ev.valueStart).offset, where(ev.valueEnd).offset];
+      if (ev.style !== PLAIN && !block && ev.valueStart > 0) node.pos = where(ev.valueStart - 1); // point at the opening quote
+      if (block && !empty) {
+        // A block scalar's source runs from the line after its header over
+        // indentation and line breaks: its place and its editable span are
+        // the content's first to last visible character, so that an edit
+        // keeps the indentation, the line breaks and the chomping.
+        let s = ev.valueStart;
+        let e = ev.valueEnd;
+        while (s < e && /\s/.test(source[s])) s++;
+        while (e > s && /\s/.test(source[e - 1])) e--;
+        if (s < e) {
+          node.pos = where(s);
+          node.span = [where(s).offset, where(e).offset];
+        } else {
+          // Nothing written: the place is the header's indicator (`|`, `>-`).
+          const header = source.lastIndexOf('\n', Math.max(0, ev.valueStart - 2));
+          const line = source.slice(header + 1, Math.max(header + 1, ev.valueStart));
+          const ind = line.search(/[|>]/);
+          node.pos = where(ind >= 0 ? header + 1 + ind : Math.max(0, ev.valueStart - 1));
+          const at = node.pos;
+          node.at = () => at;
+        }
+      } else if (!empty) node.span = [where(ev.valueStart).offset, where(ev.valueEnd).offset];
       if (!empty) {
         const raw = source.slice(ev.valueStart, ev.valueEnd);
         if (raw !== node.text) {
-          // Align the decoded text with its source greedily: each character is
-          // found at or after the previous one's place (folding drops line
-          // breaks and indentation, escapes spell a character in several).
-          const map: number[] = [];
-          let j = 0;
-          for (const ch of node.text) {
-            let k = j;
-            while (k < raw.length && raw[k] !== ch) k++;
-            if (k < raw.length) j = k;
-            map.push(ev.valueStart + j);
-            for (let u = 1; u < ch.length; u++) map.push(ev.valueStart + j);
-            if (k < raw.length) j++;
-          }
-          node.at = (i: number) => where(map[Math.min(i, map.length - 1)] ?? ev.valueStart);
+          // Align the decoded text with its source greedily, when a place is
+          // asked for: each character is found at or after the previous
+          // one's place (folding drops line breaks and indentation, escapes
+          // spell a character in several), looking a bounded way ahead so
+          // that a long scalar is aligned in linear time.
+          let map: number[] | undefined;
+          const align = (): number[] => {
+            const m: number[] = [];
+            let j = 0;
+            for (const ch of node.text) {
+              let k = j;
+              const stop = Math.min(raw.length, j + 256);
+              while (k < stop && raw[k] !== ch) k++;
+              if (k < stop) j = k;
+              m.push(ev.valueStart + j);
+              for (let u = 1; u < ch.length; u++) m.push(ev.valueStart + j);
+              if (k < stop) j++;
+            }
+            return m;
+          };
+          node.at = (i: number) => {
+            map ??= align();
+            return where(map[Math.min(i, map.length - 1)] ?? ev.valueStart);
+          };
         }
       }
       const a = anchorOf(ev);
@@ -135,7 +169,7 @@ function buildTree(source: string, events: Event[], where: (offset: number) => P
       if (!target) throw new AliasError(`front matter is not valid YAML: unidentified alias "${name}"`, Math.max(0, ev.anchorStart - 1));
       // The value is the anchor's; the place is where it is used (its key, for a mapping value).
       const use = where(Math.max(0, ev.anchorStart - 1));
-      return (target.kind === 'scalar' ? { ...target, pos: use, aliased: true, at: undefined } : { ...target, pos: use }) as YNode;
+      return (target.kind === 'scalar' ? { ...target, pos: use, aliased: true, at: undefined, span: undefined } : { ...target, pos: use }) as YNode;
     }
     if (ev.type === EVENT.MAPPING) {
       const node: YMap = { kind: 'map', entries: [], pos: where(ev.start) };
@@ -198,7 +232,7 @@ function yamlError(err: unknown, where: (offset: number) => Pos, source: string)
   if (source[offset - 1] === '*') offset -= 1;
   if (reason.includes('multiline key')) {
     // YAML notices a line without its colon only on the next line: point at the line itself.
-    const before = source.slice(0, source.lastIndexOf('\n', offset - 1) + 1 || 0).replace(/\s+$/, '');
+    const before = source.slice(0, source.lastIndexOf('\n', offset - 1) + 1 || 0).trimEnd(); // not /\s+$/: that backtracks on a long run of spaces
     const start = before.lastIndexOf('\n') + 1;
     const line = before.slice(start);
     const indent = line.length - line.trimStart().length;

@@ -249,7 +249,8 @@ describe('SARIF', () => {
     expect(withRoot.artifacts.map((a: Json) => a.location)).toEqual([
       { uri: 'specs/a.md', uriBaseId: '%SRCROOT%' },
       { uri: 'file:///elsewhere/b%20c.md' },
-      { uri: 'specs/win.md', uriBaseId: '%SRCROOT%' },
+      // On POSIX a backslash is a character of the name, percent-encoded; only on Windows is it a separator (portablePath(…, 'win32')).
+      { uri: process.platform === 'win32' ? 'specs/win.md' : '.%5Cspecs%5Cwin.md', uriBaseId: '%SRCROOT%' },
     ]);
     expect(JSON.parse(sarifReport(rs, sarifOpts)).runs[0].originalUriBaseIds).toBeUndefined();
   });
@@ -359,7 +360,9 @@ describe('GitHub workflow commands', () => {
   it('writes one annotation a finding', () => {
     const f: Finding = { rule: 'gain-bandwidth', severity: 'error', line: 19, column: 3, claim: 'gbw', message: 'gbw 55 % low: see below', suggestions: ['write `gbw: 18 MHz`', 'cc = 279 fF, or gm1 = 542 µS'] };
     const out = githubReport([{ path: 'specs\\a,b:c.md', skipped: false, findings: [f] }]);
-    expect(out).toBe('::error file=specs/a%2Cb%3Ac.md,line=19,col=3,title=polecheck gain-bandwidth::gbw 55 %25 low: see below%0A→ write `gbw: 18 MHz`%0A→ cc = 279 fF, or gm1 = 542 µS\n');
+    // A backslash is a separator on Windows only; on POSIX it is part of the name.
+    const file = process.platform === 'win32' ? 'specs/a%2Cb%3Ac.md' : 'specs\\a%2Cb%3Ac.md';
+    expect(out).toBe(`::error file=${file},line=19,col=3,title=polecheck gain-bandwidth::gbw 55 %25 low: see below%0A→ write \`gbw: 18 MHz\`%0A→ cc = 279 fF, or gm1 = 542 µS\n`);
   });
 
   it('maps severities, shows waived findings as notices with their reason, and writes nothing without findings', () => {

@@ -90,7 +90,7 @@ describe('datasheet tables', () => {
 | Slew rate | 10 | V/µs |
 `);
     const rows = findings.map((f) => `${f.line}:${f.column} ${f.severity} ${f.rule}`);
-    expect(rows).toEqual(['21:9 error wrong-unit', '22:18 error wrong-unit', '23:3 info table', '24:3 info table']);
+    expect(rows).toEqual(['21:9 error wrong-unit', '22:18 error wrong-unit', '23:3 note table', '24:3 note table']);
     expect(findings[0].message).toMatch(/frequency in Hz/);
     expect(findings[3].message).toMatch(/did you mean `Phase margin`/);
   });
