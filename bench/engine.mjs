@@ -4,7 +4,7 @@
 // nothing (exit 0 whatever it measures; 1 only when a figure could not be
 // measured at all).
 //
-//   1. one warm two-stage evaluation (src/model.ts evaluate() and its six
+//   1. one warm two-stage evaluation (src/model/model.ts evaluate() and its six
 //      figures) vs the minimal closed-form evaluation of the same designs
 //      (bench/minimal-two-stage.mjs), after checking that the two agree;
 //   2. checkText in-process: a spec whose phase-margin bound fails, and a spec
@@ -51,7 +51,7 @@ const log = (s) => process.stderr.write(`[${((Date.now() - started) / 1000).toFi
 let project;
 try {
   project = {
-    ...(await import('../src/model.ts')),
+    ...(await import('../src/model/model.ts')),
     ...(await import('../src/topologies/two-stage-miller.ts')),
     ...(await import('../src/check.ts')),
   };

@@ -1,6 +1,6 @@
 import { formatQuantity } from '../src/quantity';
-import { inLoop } from '../src/places';
-import type { Rule } from '../src/rule';
+import { inLoop } from '../src/verdicts/places';
+import type { Rule } from '../src/verdicts/rule';
 
 // The loop's stability, decided from the closed-loop poles (the roots of
 // 1 + β·A(s)), at each operating point: the front matter's and every table

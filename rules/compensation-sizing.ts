@@ -1,6 +1,6 @@
 import { formatQuantity } from '../src/quantity';
-import { placeFor } from '../src/places';
-import type { Draft, Rule } from '../src/rule';
+import { placeFor } from '../src/verdicts/places';
+import type { Draft, Rule } from '../src/verdicts/rule';
 
 // Where a topology has a published sizing guide for its compensation (the
 // Butterworth placement of a nested-Miller amplifier), a design far from it

@@ -1,8 +1,8 @@
-import { typicalValues } from '../src/evaluation';
-import { byCodeUnit } from '../src/findings';
-import type { Draft, Rule } from '../src/rule';
+import { typicalValues } from '../src/model/evaluation';
+import { byCodeUnit } from '../src/verdicts/findings';
+import type { Draft, Rule } from '../src/verdicts/rule';
 import type { ClaimEntry } from '../src/spec/types';
-import { toleranceFor } from '../src/verdict';
+import { toleranceFor } from '../src/verdicts/verdict';
 
 // The same claim at the same operating point, stated twice (front matter and
 // a table, or two table rows), with values no figure can satisfy at once.

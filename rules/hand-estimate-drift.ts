@@ -1,6 +1,6 @@
 import { formatQuantity } from '../src/quantity';
-import type { Draft, Rule } from '../src/rule';
-import { holdsAll, judge, percent, toleranceFor } from '../src/verdict';
+import type { Draft, Rule } from '../src/verdicts/rule';
+import { holdsAll, judge, percent, toleranceFor } from '../src/verdicts/verdict';
 
 // When the first-order formulas are off, a document whose numbers agree with
 // them rather than with the exact model was most likely computed by hand.

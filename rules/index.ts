@@ -1,6 +1,6 @@
 // The registry: every rule polecheck runs, in report order.
 
-import type { Rule } from '../src/rule';
+import type { Rule } from '../src/verdicts/rule';
 import bandwidth from './bandwidth';
 import closedLoopBandwidth from './closed-loop-bandwidth';
 import closedLoopGain from './closed-loop-gain';

@@ -1,5 +1,5 @@
-import { CLOSED_LOOP_KEYS, pct } from '../src/closed-loop-figures';
-import type { Rule } from '../src/rule';
+import { CLOSED_LOOP_KEYS, pct } from '../src/model/closed-loop-figures';
+import type { Rule } from '../src/verdicts/rule';
 import { SETTLING_BAND, STEP_INPUT } from '../src/topologies/common';
 
 /** Operating-point keys that do not change the loop. */

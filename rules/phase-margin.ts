@@ -1,4 +1,4 @@
-import { claimRule } from '../src/claim-rule';
+import { claimRule } from '../src/verdicts/claim-rule';
 
 export default claimRule({
   id: 'phase-margin',

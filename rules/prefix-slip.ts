@@ -1,8 +1,8 @@
 import { formatQuantity } from '../src/quantity';
-import type { Draft, Rule } from '../src/rule';
-import { slipFactor, writtenValues } from '../src/slips';
+import type { Draft, Rule } from '../src/verdicts/rule';
+import { slipFactor, writtenValues } from '../src/fixes/slips';
 
-// A likely slip of one SI prefix (src/slips.ts): the value is outside the
+// A likely slip of one SI prefix (src/fixes/slips.ts): the value is outside the
 // plausible range of an integrated block by exactly the factor it explains.
 
 const rule: Rule = {

@@ -1,6 +1,6 @@
 import { formatQuantity } from '../src/quantity';
-import { inLoop, placeFor } from '../src/places';
-import type { Rule } from '../src/rule';
+import { inLoop, placeFor } from '../src/verdicts/places';
+import type { Rule } from '../src/verdicts/rule';
 
 // Common practice (rule of thumb): a right-half-plane zero ten times above the
 // crossover costs under 6° of phase (atan(1/10) ≈ 5.7°); Allen & Holberg,

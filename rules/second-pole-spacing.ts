@@ -1,6 +1,6 @@
 import { formatQuantity } from '../src/quantity';
-import { inLoop, placeFor } from '../src/places';
-import type { Rule } from '../src/rule';
+import { inLoop, placeFor } from '../src/verdicts/places';
+import type { Rule } from '../src/verdicts/rule';
 
 // Common practice (rule of thumb): with the second pole at 2.2× the loop
 // crossover a two-pole loop keeps about 60° of phase margin (Allen & Holberg,

@@ -6,7 +6,7 @@
 import { createHash } from 'node:crypto';
 import { existsSync, mkdirSync, readFileSync, renameSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import type { Finding } from './findings';
+import type { Finding } from './verdicts/findings';
 import type { Sheet } from './report/sheet';
 
 export const DEFAULT_CACHE_DIR = '.polecheck-cache';

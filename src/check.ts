@@ -4,20 +4,20 @@
 // for the reviewer report.
 
 import { RULES } from '../rules';
-import { typicalValues } from './evaluation';
-import { type Finding, sortFindings } from './findings';
-import { type Model, evaluationCount } from './model';
+import { typicalValues } from './model/evaluation';
+import { type Finding, sortFindings } from './verdicts/findings';
+import { type Model, evaluationCount } from './model/model';
 import { readDocument } from './pipeline';
 import { type Sheet, sheetOf } from './report/sheet';
-import { type Judged, type OperatingPoint, judgeAll, operatingPoints, recheck } from './points';
-import { type Recheck, type RuleContext, type RuleSettings, runRules } from './rule';
+import { type Judged, type OperatingPoint, judgeAll, operatingPoints, recheck } from './verdicts/points';
+import { type Recheck, type RuleContext, type RuleSettings, runRules } from './verdicts/rule';
 import type { Values } from './topologies/types';
 import type { Spec } from './spec/types';
-import type { Tolerances } from './verdict';
-import { applyWaivers, todayIso } from './waivers';
+import type { Tolerances } from './verdicts/verdict';
+import { applyWaivers, todayIso } from './verdicts/waivers';
 import { formatKeyValue, relateFindings } from './spec/design';
 
-export type { OperatingPoint } from './points';
+export type { OperatingPoint } from './verdicts/points';
 
 export interface FileResult {
   path: string;

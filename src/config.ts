@@ -5,13 +5,13 @@
 import { existsSync, readFileSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { RULES } from '../rules';
-import type { Severity } from './findings';
+import type { Severity } from './verdicts/findings';
 import { parseQuantity } from './quantity';
-import type { RuleSettings } from './rule';
+import type { RuleSettings } from './verdicts/rule';
 import { nearest } from './spec/nearest';
 import { LineIndex, type Pos } from './spec/position';
 import { type YEntry, type YNode, parseYaml } from './spec/yaml';
-import { DEFAULT_TOLERANCES, type Tolerances } from './verdict';
+import { DEFAULT_TOLERANCES, type Tolerances } from './verdicts/verdict';
 
 export const CONFIG_NAME = 'polecheck.yaml';
 export const CONFIG_KEYS = ['rules', 'tolerances', 'include', 'exclude'] as const;

@@ -3,7 +3,7 @@
 // reports. One list for every consumer: the SARIF rule descriptors, the ids a
 // waiver may name, `explain`.
 
-import type { Severity } from './findings';
+import type { Severity } from './verdicts/findings';
 
 /** The ids that input findings carry (reading, parsing, schema, model, waivers), with what they report; `waivable` when a waiver may accept one. */
 export const INPUT_DIAGNOSTICS: readonly { id: string; name: string; description: string; severity: Severity; waivable: boolean }[] = [

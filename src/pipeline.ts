@@ -5,7 +5,7 @@
 import remarkGfm from 'remark-gfm';
 import remarkParse from 'remark-parse';
 import { unified } from 'unified';
-import type { Finding } from './findings';
+import type { Finding } from './verdicts/findings';
 import { readSpec } from './spec/schema';
 import { LineIndex } from './spec/position';
 import { readTables } from './spec/tables';

@@ -3,8 +3,8 @@
 // range the statement gives (400 log-spaced points, then a golden-section
 // search — J. Kiefer, "Sequential minimax search for a maximum", Proc. AMS 4
 // (1953) — around the points nearest to meeting the claim). Each point is
-// evaluated with the exact model (src/model.ts `evaluate`) and judged with the
-// default tolerances (src/verdict.ts `judge`, SPEC-FORMAT §2); a claim that
+// evaluated with the exact model (src/model/model.ts `evaluate`) and judged with the
+// default tolerances (src/verdicts/verdict.ts `judge`, SPEC-FORMAT §2); a claim that
 // holds only by a thin margin still meets it. The statement is wrong if the
 // scan finds a value that meets the claim, or if the value it names as the
 // nearest approach is clearly farther from the claim than the best the scan
@@ -14,12 +14,12 @@
 
 import { describe, expect, it } from 'vitest';
 import { checkText } from '../src/check';
-import type { Fix } from '../src/findings';
-import { type Model, evaluate } from '../src/model';
+import type { Fix } from '../src/verdicts/findings';
+import { type Model, evaluate } from '../src/model/model';
 import { parseQuantity } from '../src/quantity';
 import type { ClaimEntry } from '../src/spec/types';
 import type { Values } from '../src/topologies/types';
-import { DEFAULT_TOLERANCES, judge, toleranceFor } from '../src/verdict';
+import { DEFAULT_TOLERANCES, judge, toleranceFor } from '../src/verdicts/verdict';
 import { failingSpecs, topologyOf, type GeneratedSpec, type Statement } from './reference/failing-specs';
 
 const GRID = 400;

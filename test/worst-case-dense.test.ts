@@ -1,4 +1,4 @@
-// The worst-case search over ranged params (src/worst-case.ts) against a dense
+// The worst-case search over ranged params (src/model/worst-case.ts) against a dense
 // brute-force reference, on specs built so that the worst point lies inside the
 // box or along a diagonal of it:
 //  - a one-stage OTA with a current mirror: the mirror's pole-zero doublet,
@@ -30,10 +30,10 @@
 import { afterAll, describe, expect, it } from 'vitest';
 import { checkText } from '../src/check';
 import { formatQuantity, type Kind } from '../src/quantity';
-import type { RuleContext } from '../src/rule';
+import type { RuleContext } from '../src/verdicts/rule';
 import { TOPOLOGIES } from '../src/topologies';
 import type { Values } from '../src/topologies/types';
-import { worstCase } from '../src/worst-case';
+import { worstCase } from '../src/model/worst-case';
 import { commonSourceA, singleStageA, threeStageResponse, type C } from './reference/topologies/closed-forms';
 import type { CommonSourceDesign, SingleStageDesign, ThreeStageDesign } from './reference/topologies/designs';
 

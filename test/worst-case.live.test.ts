@@ -11,7 +11,7 @@ import { checkText } from '../src/check';
 import { formatQuantity } from '../src/quantity';
 import { TOPOLOGIES } from '../src/topologies';
 import type { Values } from '../src/topologies/types';
-import { worstCase } from '../src/worst-case';
+import { worstCase } from '../src/model/worst-case';
 import type { TwoStageDesign } from './reference/designs';
 import { ngspiceAvailable, ngspiceVersion, runTwoStage } from './reference/ngspice';
 import type { SingleStageDesign, ThreeStageDesign } from './reference/topologies/designs';

@@ -6,11 +6,11 @@
 // the dense references; test/worst-case.live.test.ts the ngspice checks.
 import { describe, expect, it } from 'vitest';
 import { checkText } from '../src/check';
-import { evaluate } from '../src/model';
+import { evaluate } from '../src/model/model';
 import { formatQuantity } from '../src/quantity';
-import type { RuleContext } from '../src/rule';
+import type { RuleContext } from '../src/verdicts/rule';
 import { twoStageMiller } from '../src/topologies/two-stage-miller';
-import { scrambledHalton, worstCase } from '../src/worst-case';
+import { scrambledHalton, worstCase } from '../src/model/worst-case';
 import { mulberry32 as rng } from './reference/designs';
 
 const KINDS = { gm1: 'conductance', gm2: 'conductance', cc: 'capacitance', c2: 'capacitance', rz: 'resistance', cl: 'capacitance' } as const;

@@ -5,8 +5,8 @@
 // data, the same whether it was made in this thread or in a worker.
 
 import { type CheckOptions, type FileResult, checkText } from '../check';
-import type { Finding } from '../findings';
-import { type Edit, applyEdits, planFixes, restatedProblem } from '../fix';
+import type { Finding } from '../verdicts/findings';
+import { type Edit, applyEdits, planFixes, restatedProblem } from '../fixes/restate';
 import type { Sheet } from '../report/sheet';
 
 export interface JobSettings {

@@ -14,7 +14,7 @@ import { useColor } from '../report/style';
 import { summarize } from '../report/summary';
 import { INPUT_DIAGNOSTICS } from '../diagnostics';
 import { nearest } from '../spec/nearest';
-import { todayIso } from '../waivers';
+import { todayIso } from '../verdicts/waivers';
 import { HELP, type Options, UsageError, VERSION, parseArgs } from './args';
 import { selectFiles } from './discover';
 import { docsDir } from './docs';

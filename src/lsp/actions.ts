@@ -8,7 +8,7 @@ import { type CodeAction, CodeActionKind, type Diagnostic, type Range, type Text
 import { RULES } from '../../rules';
 import type { FileResult } from '../check';
 import { INPUT_RULE_IDS } from '../diagnostics';
-import type { Finding, Fix } from '../findings';
+import type { Finding, Fix } from '../verdicts/findings';
 import { formatQuantity } from '../quantity';
 import type { QuantityAt, Spec } from '../spec/types';
 import { type Analysis, withDesignChanges } from './analysis';
@@ -40,7 +40,7 @@ function valueRange(spec: Spec, text: string, q: QuantityAt): Range | undefined 
   return undefined;
 }
 
-/** The edits that set params to new values: a ranged param keeps its spread around the new value (as src/points.ts withParams judges it); a param not written gets its own line. */
+/** The edits that set params to new values: a ranged param keeps its spread around the new value (as src/verdicts/points.ts withParams judges it); a param not written gets its own line. */
 export function designEdits(spec: Spec, text: string, lines: string[], changes: Record<string, number>): TextEdit[] | undefined {
   const edits: TextEdit[] = [];
   const added: string[] = [];

@@ -11,8 +11,8 @@ import { RULES } from '../../rules';
 import { type CheckOptions, type FileResult, checkText } from '../check';
 import { docsDir } from '../cli/docs';
 import type { Config, ConfigError } from '../config';
-import type { Finding } from '../findings';
-import { todayIso } from '../waivers';
+import type { Finding } from '../verdicts/findings';
+import { todayIso } from '../verdicts/waivers';
 import { splitLines, tokenRange, toPosition } from './positions';
 
 export interface Analysis {

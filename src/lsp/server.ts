@@ -22,7 +22,7 @@ import {
 } from 'vscode-languageserver';
 import { TextDocument } from 'vscode-languageserver-textdocument';
 import { CONFIG_NAME, ConfigError, parseConfig } from '../config';
-import { todayIso } from '../waivers';
+import { todayIso } from '../verdicts/waivers';
 import { codeActions } from './actions';
 import { type Analysis, SOURCE, analyze } from './analysis';
 import { complete } from './completion';

@@ -5,7 +5,7 @@
 // in a property value `:` and `,` too, since they delimit the properties.
 
 import type { FileResult } from '../check';
-import type { Finding } from '../findings';
+import type { Finding } from '../verdicts/findings';
 import { portablePath } from './sarif';
 
 /** A command's message: `%` first, so that the escapes themselves are not escaped again. */

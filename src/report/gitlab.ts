@@ -13,7 +13,7 @@
 // issue to fix, and listing it would make the widget count it as one.
 
 import type { FileResult } from '../check';
-import type { Finding } from '../findings';
+import type { Finding } from '../verdicts/findings';
 import { INPUT_DIAGNOSTICS, findingFingerprints, portablePath } from './sarif';
 
 export type GitlabSeverity = 'info' | 'minor' | 'major' | 'critical' | 'blocker';

@@ -1,7 +1,7 @@
 // The machine-readable report of SPEC-FORMAT §4.
 
 import type { FileResult } from '../check';
-import type { Fix } from '../findings';
+import type { Fix } from '../verdicts/findings';
 import { summarize } from './summary';
 
 /** A fix as SPEC-FORMAT §4 shows it: an edit by line and column (1-based, endColumn exclusive). */

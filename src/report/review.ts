@@ -3,15 +3,15 @@
 // then the poles, zeros and the caveats of the approximations.
 
 import type { FileResult } from '../check';
-import { conditionsText } from '../evaluation';
+import { conditionsText } from '../model/evaluation';
 import type { Figure } from '../engine/figure';
 import { rootHz } from '../engine/roots';
-import { inLoop } from '../places';
+import { inLoop } from '../verdicts/places';
 import { formatFigure, formatQuantity } from '../quantity';
 import type { ClaimEntry } from '../spec/types';
 import type { Paint } from './style';
 import { CAUTION } from './summary';
-import { claimResults } from '../results';
+import { claimResults } from '../verdicts/results';
 
 export const claimedText = (c: ClaimEntry | undefined): string => {
   if (!c) return '—';

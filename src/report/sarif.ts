@@ -7,8 +7,8 @@
 import { createHash } from 'node:crypto';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import type { FileResult } from '../check';
-import type { Finding, Severity } from '../findings';
-import type { Rule } from '../rule';
+import type { Finding, Severity } from '../verdicts/findings';
+import type { Rule } from '../verdicts/rule';
 import { INPUT_DIAGNOSTICS } from '../diagnostics';
 
 export { INPUT_DIAGNOSTICS } from '../diagnostics';

@@ -3,11 +3,11 @@
 // and the findings. Every judged statement is a row, holding ones included, so
 // the text report can show the whole block at a glance.
 
-import type { Finding } from '../findings';
+import type { Finding } from '../verdicts/findings';
 import type { FileResult } from '../check';
-import { conditionsText } from '../evaluation';
+import { conditionsText } from '../model/evaluation';
 import { formatLike } from '../quantity';
-import { describeTolerance, judge, offBy, toleranceFor } from '../verdict';
+import { describeTolerance, judge, offBy, toleranceFor } from '../verdicts/verdict';
 
 export interface SheetRow {
   key: string;

@@ -7,7 +7,7 @@
 // tally and the caution close the run.
 
 import type { FileResult } from '../check';
-import type { Finding } from '../findings';
+import type { Finding } from '../verdicts/findings';
 import type { Sheet, SheetRow } from './sheet';
 import type { Paint } from './style';
 import { CAUTION, summarize } from './summary';

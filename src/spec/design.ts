@@ -10,7 +10,7 @@
 // together in the worst-case search, because only the current is an axis.
 
 import { type Kind, type Quantity, detectKind, formatQuantity, parseQuantity, parseTolerance } from '../quantity';
-import type { Finding } from '../findings';
+import type { Finding } from '../verdicts/findings';
 import type { KeySpec, Topology, Values } from '../topologies/types';
 import { type Compiled, type Dims, KIND_DIMS, compile, describeDims, kindOfDims, shadows, spiceHint, unitsOf } from './expressions';
 import type { Pos } from './position';

@@ -1,7 +1,7 @@
 // The positioned YAML tree → a typed Spec, with an error at the exact place
 // of every key or value that does not fit the format (SPEC-FORMAT §2).
 
-import type { Finding } from '../findings';
+import type { Finding } from '../verdicts/findings';
 import { DISPLAY_UNIT, type Kind, KIND_EXAMPLE, KIND_NOUN, formatQuantity, parseQuantity, parseTolerance } from '../quantity';
 import { TOPOLOGIES } from '../topologies';
 import { STEP_INPUT, betaFromGain } from '../topologies/common';

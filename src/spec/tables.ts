@@ -3,7 +3,7 @@
 // Symbol, Conditions, Unit). Each row that names a known claim becomes a claim
 // at its own conditions; the findings point at the cells.
 
-import type { Finding } from '../findings';
+import type { Finding } from '../verdicts/findings';
 import { type Kind, parseQuantity } from '../quantity';
 import { SETTLING_BAND, STEP_INPUT, betaFromGain } from '../topologies/common';
 import type { KeySpec, Topology, Values } from '../topologies/types';

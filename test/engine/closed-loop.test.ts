@@ -14,11 +14,11 @@
 // TR-BDF2's local error constant from its amplification function (R. E. Bank
 // et al., IEEE Trans. CAD 4, 1985): (3γ² − 4γ + 2)/(12(2 − γ)), γ = 2 − √2.
 import { describe, expect, it } from 'vitest';
-import { crossoverOverNatural, overshootOfZeta, peakOfZeta, riseOfZeta, zetaFromPhaseMargin } from '../../src/closed-loop-figures';
+import { crossoverOverNatural, overshootOfZeta, peakOfZeta, riseOfZeta, zetaFromPhaseMargin } from '../../src/model/closed-loop-figures';
 import { FactoredResponse, analyzeNetwork } from '../../src/engine/analyze';
 import { LTE_C, ModalBasis, closedMatrices, firstFall, largeStepSettling, overshoot, peakMagnitude, riseTime, settlingTime, stepModes } from '../../src/engine/closed-loop';
 import { findRoots } from '../../src/engine/roots';
-import { evaluate } from '../../src/model';
+import { evaluate } from '../../src/model/model';
 import { twoStageMiller } from '../../src/topologies/two-stage-miller';
 import { networkTopology } from '../../src/topologies/network';
 

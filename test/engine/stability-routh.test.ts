@@ -4,7 +4,7 @@
 // topologies over wide ranges (many of them unstable), and on hand-made
 // polynomials whose roots are known.
 import { describe, expect, it } from 'vitest';
-import { evaluate } from '../../src/model';
+import { evaluate } from '../../src/model/model';
 import { hurwitzStable } from '../../src/engine/poly';
 import { threeStageNestedMiller } from '../../src/topologies/three-stage-nested-miller';
 import { twoStageMiller } from '../../src/topologies/two-stage-miller';

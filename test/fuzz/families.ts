@@ -13,7 +13,7 @@ import { join } from 'node:path';
 import { load } from 'js-yaml';
 import type { FileResult } from '../../src/check';
 import { readSpecFile } from '../../src/cli/discover';
-import { applyEdits, planFixes, restatedProblem } from '../../src/fix';
+import { applyEdits, planFixes, restatedProblem } from '../../src/fixes/restate';
 import { HEAD, TABLE, ladder, twoStage } from './hostile-docs';
 import type { Rng } from './support';
 

@@ -24,7 +24,7 @@ import { join } from 'node:path';
 import { afterAll, beforeEach, describe, expect, it } from 'vitest';
 import { type FileResult, checkText } from '../../src/check';
 import { DEFAULT_MAX_BYTES, checkFile } from '../../src/cli';
-import type { Finding } from '../../src/findings';
+import type { Finding } from '../../src/verdicts/findings';
 
 const BASE_LINES = [
   '---',

@@ -15,7 +15,7 @@ import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { type FileResult, checkText } from '../../src/check';
 import type { Figure } from '../../src/engine/figure';
-import { type Model, ModelError, evaluate } from '../../src/model';
+import { type Model, ModelError, evaluate } from '../../src/model/model';
 import { TOPOLOGIES } from '../../src/topologies';
 import type { Topology, Values } from '../../src/topologies/types';
 import { DEMO_SPECS, findingProblems, randomSpec, reportProblems, rng } from './support';

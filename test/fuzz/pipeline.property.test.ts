@@ -16,7 +16,7 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { checkText } from '../../src/check';
-import { applyEdits, planFixes } from '../../src/fix';
+import { applyEdits, planFixes } from '../../src/fixes/restate';
 import { DEMO_SPECS, type Mutation, NUMBER_POOL, PUNCTUATION, UNITS_POOL, applyMutation, findingProblems, randomSpec, reportProblems, rng } from './support';
 
 const big = fc.nat({ max: 1 << 20 });

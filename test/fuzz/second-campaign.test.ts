@@ -15,7 +15,7 @@ import { describe, expect, it } from 'vitest';
 import { checkText } from '../../src/check';
 import { main } from '../../src/cli';
 import { readSpecFile } from '../../src/cli/discover';
-import { applyEdits, planFixes, restatedProblem } from '../../src/fix';
+import { applyEdits, planFixes, restatedProblem } from '../../src/fixes/restate';
 import { readDocument } from '../../src/pipeline';
 import { portablePath } from '../../src/report/sarif';
 import { textReport } from '../../src/report/text';

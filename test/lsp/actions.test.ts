@@ -1,5 +1,5 @@
 // The design-change edits of the code actions against the spec the change
-// was judged on (src/points.ts withParams): the edited text, read again by
+// was judged on (src/verdicts/points.ts withParams): the edited text, read again by
 // the command's reader, holds the same param values — a ranged param keeps
 // its spread around the new value, a `±` tolerance stays as written, a param
 // not yet written gets its own line. Values are printed with 3 significant
@@ -10,7 +10,7 @@ import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { designEdits, waiverEdit } from '../../src/lsp/actions';
 import { readDocument } from '../../src/pipeline';
-import { withParams } from '../../src/points';
+import { withParams } from '../../src/verdicts/points';
 import type { Spec } from '../../src/spec/types';
 import { ROOT, applyTextEdits } from './client';
 

@@ -21,19 +21,19 @@
 //   unstable), at every operating point;
 // - `breaks` (and each broken figure) and `meetsAll` against every statement
 //   of the spec judged with ngspice's figures and the default tolerances
-//   (src/verdict.ts, SPEC-FORMAT §2).
+//   (src/verdicts/verdict.ts, SPEC-FORMAT §2).
 // A figure within its bar of a verdict's edge is a knife edge: either verdict
 // is accepted there, and counted. The counts are printed; any wrong statement
 // fails the test, listed with its spec, its fix and what ngspice says.
 
 import { describe, expect, it } from 'vitest';
 import { checkText } from '../../src/check';
-import type { Finding, Fix } from '../../src/findings';
+import type { Finding, Fix } from '../../src/verdicts/findings';
 import { type Kind, parseQuantity } from '../../src/quantity';
 import type { ClaimEntry } from '../../src/spec/types';
 import type { Values } from '../../src/topologies/types';
-import { DEFAULT_TOLERANCES, judge, toleranceFor } from '../../src/verdict';
-import { recheck } from '../../src/points';
+import { DEFAULT_TOLERANCES, judge, toleranceFor } from '../../src/verdicts/verdict';
+import { recheck } from '../../src/verdicts/points';
 import { elementsOf, failingSpecs, slewRateOf, topologyOf, type GeneratedSpec, type Statement } from './failing-specs';
 import { rootHz, runLoops, type LoopJob, type LoopReference } from './loop-reference';
 import { ngspiceAvailable, ngspiceVersion } from './ngspice';
@@ -181,7 +181,7 @@ async function getRun(): Promise<Run> {
       for (const fix of finding.fixes ?? []) {
         if (fix.kind !== 'design') continue;
         const base = { ...spec.values, ...fix.changes };
-        // A ranged param that is changed keeps its spread around the new value (src/points.ts withParams, SPEC-FORMAT §2).
+        // A ranged param that is changed keeps its spread around the new value (src/verdicts/points.ts withParams, SPEC-FORMAT §2).
         const ranges: Record<string, [number, number]> = {};
         for (const [k, [lo, hi]] of Object.entries(spec.ranges)) {
           const f = k in fix.changes ? fix.changes[k] / spec.values[k] : 1;

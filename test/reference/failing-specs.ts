@@ -8,7 +8,7 @@
 // written as a designer would (4 digits, SI prefix) and read back, so the
 // values a test rebuilds the netlist from are the ones the spec states.
 
-import { evaluate } from '../../src/model';
+import { evaluate } from '../../src/model/model';
 import { type Kind, formatQuantity, parseQuantity } from '../../src/quantity';
 import { TOPOLOGIES } from '../../src/topologies';
 import type { Topology, Values } from '../../src/topologies/types';

@@ -8,11 +8,11 @@ import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { RULES } from '../../rules';
 import { type FileResult, checkText } from '../../src/check';
-import type { Finding } from '../../src/findings';
+import type { Finding } from '../../src/verdicts/findings';
 import { escapeData, escapeProperty, githubReport } from '../../src/report/github';
 import { gitlabReport } from '../../src/report/gitlab';
 import { INPUT_DIAGNOSTICS, findingFingerprints, ruleName, sarifReport } from '../../src/report/sarif';
-import { INPUT_RULE_IDS } from '../../src/waivers';
+import { INPUT_RULE_IDS } from '../../src/verdicts/waivers';
 import { validateSarif } from './multitool';
 
 const TODAY = '2026-01-01';

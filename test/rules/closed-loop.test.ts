@@ -18,7 +18,7 @@
 //   τ·ln(sinh(x0)/sinh(x_b)) (derived here from the tanh model of the pair).
 import { describe, expect, it } from 'vitest';
 import { checkText } from '../../src/check';
-import type { Finding } from '../../src/findings';
+import type { Finding } from '../../src/verdicts/findings';
 
 const TWO_PI = 2 * Math.PI;
 

@@ -3,7 +3,7 @@
 // claim's own unit, each once.
 import { describe, expect, it } from 'vitest';
 import { checkText } from '../../src/check';
-import { offBy } from '../../src/verdict';
+import { offBy } from '../../src/verdicts/verdict';
 import { BASE, run, variant, withValues } from './support/spec';
 
 describe('deviation digits', () => {

@@ -3,7 +3,7 @@
 // params (each named beside its check), with the exact place of each finding.
 import { describe, expect, it } from 'vitest';
 import { checkText } from '../../src/check';
-import type { Finding } from '../../src/findings';
+import type { Finding } from '../../src/verdicts/findings';
 
 const K = 1.380649e-23; // J/K, exact (SI 2019)
 

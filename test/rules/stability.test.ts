@@ -4,7 +4,7 @@
 // "Modern Control Engineering", ch. on stability).
 import { describe, expect, it } from 'vitest';
 import { checkText } from '../../src/check';
-import { evaluate } from '../../src/model';
+import { evaluate } from '../../src/model/model';
 import { twoStageMiller } from '../../src/topologies/two-stage-miller';
 
 const spec = (params: string, conditions = '  cl: 20 pF\n  beta: 1', claims = '  dc_gain: 100 dB') => `---

@@ -4,7 +4,7 @@
 // table's Conditions cell and Parameter name. Positions are found in the text
 // by this file, not by the reader.
 import { describe, expect, it } from 'vitest';
-import { typicalValues } from '../../src/evaluation';
+import { typicalValues } from '../../src/model/evaluation';
 import { readDocument } from '../../src/pipeline';
 
 const head = ['---', 'polecheck: 1', 'block: strand-cl-conditions', 'topology: two-stage-miller', 'params:', '  gm1: 200 µS', '  r1: 2 MΩ', '  c1: 80 fF', '  gm2: 1.5 mS', '  r2: 150 kΩ', '  c2: 300 fF', '  cc: 1.5 pF', '  i1: 16 µA', '  i2: 120 µA'];

@@ -1,5 +1,5 @@
 // Correlated ranges: a range on a design quantity moves every value derived
-// from it together. The worst-case search (src/worst-case.ts) searches the box
+// from it together. The worst-case search (src/model/worst-case.ts) searches the box
 // of the underlying quantities; the reference here is a brute-force grid over
 // that box, with the derived params worked by hand from the same formulas
 // (square law gm1 = 2·I1/Vov1, gm/Id method gm2 = (gm/Id)·I2, a mirrored
@@ -9,9 +9,9 @@
 
 import { describe, expect, it } from 'vitest';
 import { checkText } from '../../src/check';
-import { evaluate } from '../../src/model';
+import { evaluate } from '../../src/model/model';
 import { twoStageMiller } from '../../src/topologies/two-stage-miller';
-import { worstCase } from '../../src/worst-case';
+import { worstCase } from '../../src/model/worst-case';
 
 const FIXED = { r1: 2.2e6, c1: 45e-15, r2: 150e3, c2: 120e-15, cc: 1.2e-12, cl: 2e-12 };
 const I1: [number, number, number] = [16e-6, 20e-6, 24e-6];

@@ -7,7 +7,7 @@
 
 import { describe, expect, it } from 'vitest';
 import { checkText } from '../../src/check';
-import { typicalValues } from '../../src/evaluation';
+import { typicalValues } from '../../src/model/evaluation';
 import { compile, normalise, type Scope } from '../../src/spec/expressions';
 
 /** A single-stage spec: design lines, then params (gm on line `gmLine`). */

@@ -5,7 +5,7 @@
 
 import { describe, expect, it } from 'vitest';
 import { checkText } from '../../src/check';
-import type { Finding } from '../../src/findings';
+import type { Finding } from '../../src/verdicts/findings';
 import { readDocument } from '../../src/pipeline';
 import type { Spec } from '../../src/spec/types';
 

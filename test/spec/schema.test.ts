@@ -8,7 +8,7 @@
 
 import { describe, expect, it } from 'vitest';
 import { checkText } from '../../src/check';
-import type { Finding } from '../../src/findings';
+import type { Finding } from '../../src/verdicts/findings';
 import { readDocument } from '../../src/pipeline';
 
 // The ADC driver of the (invented) KX-4 strain-gauge front end.

@@ -1,7 +1,7 @@
 // The two-stage Miller topology's hand estimates and large-signal figure,
 // against the textbook formulas and a fact of the trade.
 import { describe, expect, it } from 'vitest';
-import { evaluate } from '../../src/model';
+import { evaluate } from '../../src/model/model';
 import { twoStageMiller } from '../../src/topologies/two-stage-miller';
 import type { Values } from '../../src/topologies/types';
 

@@ -4,7 +4,7 @@
 // given a Min above its Typ.
 import { describe, expect, it } from 'vitest';
 import { checkText } from '../../src/check';
-import { applyEdits, planFixes } from '../../src/fix';
+import { applyEdits, planFixes } from '../../src/fixes/restate';
 
 const spec = (extra: { params?: string; claims?: string; waivers?: string } = {}) => `---
 polecheck: 1

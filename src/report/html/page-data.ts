@@ -1,19 +1,19 @@
 // One block's review page as plain data, made right after the check from the
 // models (in the thread that checked the file): the claims with their figures
-// and verdicts, the curves the plots draw (sampled by src/curves.ts, the
+// and verdicts, the curves the plots draw (sampled by src/model/curves.ts, the
 // engine's own evaluations), the roots, and the derivation of every figure.
 // It crosses to the writer as JSON; the writer only lays it out.
 
 import type { FileResult } from '../../check';
-import { closedLoopCurve, frequencySpan, type BodePoint, logGrid, loopGainCurve, noiseCurve, openLoopCurve, stepCurve } from '../../curves';
-import { conditionsText } from '../../evaluation';
+import { closedLoopCurve, frequencySpan, type BodePoint, logGrid, loopGainCurve, noiseCurve, openLoopCurve, stepCurve } from '../../model/curves';
+import { conditionsText } from '../../model/evaluation';
 import type { Figure } from '../../engine/figure';
 import { type Root, rootHz } from '../../engine/roots';
-import type { Model } from '../../model';
-import { inLoop } from '../../places';
+import type { Model } from '../../model/model';
+import { inLoop } from '../../verdicts/places';
 import { formatFigure, formatQuantity } from '../../quantity';
 import type { Kind } from '../../quantity/units';
-import { claimResults } from '../../results';
+import { claimResults } from '../../verdicts/results';
 import { INPUT_NOISE_AT } from '../../topologies/common';
 import { claimedText, handError } from '../review';
 

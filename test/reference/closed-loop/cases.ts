@@ -14,7 +14,7 @@
 
 import { readFileSync } from 'node:fs';
 import { load } from 'js-yaml';
-import { evaluate } from '../../../src/model';
+import { evaluate } from '../../../src/model/model';
 import { type Kind, parseQuantity } from '../../../src/quantity';
 import { networkTopology, type NetworkDef } from '../../../src/topologies/network';
 import { singleStage } from '../../../src/topologies/single-stage';

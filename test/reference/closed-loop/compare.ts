@@ -5,7 +5,7 @@
 // within 2 %; the closed-loop DC gain within 1e-4 dB (it is one nodal solve).
 
 import { closedLoopResponse, largeStepSettling, peakMagnitude } from '../../../src/engine/closed-loop';
-import { evaluate } from '../../../src/model';
+import { evaluate } from '../../../src/model/model';
 import { STEP_INPUT } from '../../../src/topologies/common';
 import type { LoopCase } from './cases';
 import { type SimResult, deck, limitedPair, parse, runDeck } from './ngspice';

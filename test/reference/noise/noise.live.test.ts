@@ -14,7 +14,7 @@
 
 import { describe, expect, it } from 'vitest';
 import { checkText } from '../../../src/check';
-import { evaluate, type Model } from '../../../src/model';
+import { evaluate, type Model } from '../../../src/model/model';
 import { commonSource } from '../../../src/topologies/common-source';
 import { INPUT_NOISE_AT, NOISE_BAND_FROM, NOISE_BAND_TO } from '../../../src/topologies/common';
 import { singleStage } from '../../../src/topologies/single-stage';

@@ -1,10 +1,10 @@
-// Compares the engine (evaluate() of src/model.ts with the topology modules)
+// Compares the engine (evaluate() of src/model/model.ts with the topology modules)
 // with an ngspice result for the same design.
 // Bars: DC gain 0.01 dB, frequencies and poles 0.1 %, phase margin 0.1°,
 // gain margin 0.01 dB; input capacitance 1e-5 relative (ngspice measures it
 // 1000× below the lowest pole, where it is within ~1e-6 of its DC limit).
 
-import { evaluate } from '../../../src/model';
+import { evaluate } from '../../../src/model/model';
 import { wrapDeg } from '../../../src/engine/analyze';
 import { readOffOpenLoop } from '../compare';
 import { commonSource } from '../../../src/topologies/common-source';

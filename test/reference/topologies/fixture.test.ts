@@ -5,7 +5,7 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import type { CommonSourceDesign, SingleStageDesign, ThreeStageDesign } from './designs';
-import { evaluate } from '../../../src/model';
+import { evaluate } from '../../../src/model/model';
 import { commonSource } from '../../../src/topologies/common-source';
 import { compare, valuesOf, within, worst, type Errors } from './compare';
 import { FIXTURE, TOPOLOGY_IDS, type FixtureEntry, type TopologiesFixture } from './generate';

@@ -3,7 +3,7 @@
 // and the computed figure against an independent value.
 
 import { expect } from 'vitest';
-import type { Finding } from '../../../src/findings';
+import type { Finding } from '../../../src/verdicts/findings';
 import type { Checked } from './spec';
 
 export interface Expected {

@@ -4,7 +4,7 @@
 // itself, independently of the tool's YAML reader.
 
 import { checkText, type CheckOptions } from '../../../src/check';
-import type { Finding } from '../../../src/findings';
+import type { Finding } from '../../../src/verdicts/findings';
 import type { Design } from './closed-form';
 
 export interface SpecInput {

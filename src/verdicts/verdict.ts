@@ -1,9 +1,9 @@
 // Claims against figures: tolerances (SPEC-FORMAT §2 defaults), the verdict,
 // and the wording of "claimed … model gives … (by how much)".
 
-import type { Figure } from './engine/figure';
-import { type Kind, formatQuantity } from './quantity';
-import type { ClaimEntry } from './spec/types';
+import type { Figure } from '../engine/figure';
+import { type Kind, formatQuantity } from '../quantity';
+import type { ClaimEntry } from '../spec/types';
 
 export interface Tolerance {
   /** Relative (0.1 = ±10 %) or absolute in the canonical unit. */

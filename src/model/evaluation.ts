@@ -2,9 +2,9 @@
 // corners of any ranges, and the models evaluated there.
 
 import { type Model, ModelError, evaluate } from './model';
-import { formatQuantity } from './quantity';
-import type { Spec, ValueEntry } from './spec/types';
-import type { Values } from './topologies/types';
+import { formatQuantity } from '../quantity';
+import type { Spec, ValueEntry } from '../spec/types';
+import type { Values } from '../topologies/types';
 
 export interface Corner {
   /** e.g. "gm1 min, cl max"; "typical" for the typical point. */

@@ -1,7 +1,7 @@
 // Where a finding that is not about one written value should point.
 
-import type { Pos } from './spec/position';
-import type { Spec } from './spec/types';
+import type { Pos } from '../spec/position';
+import type { Spec } from '../spec/types';
 
 /** The first of these claims the spec states, else the `params:` key. */
 export function placeFor(spec: Spec, claims: string[]): { pos: Pos; claim: string | null } {

@@ -5,9 +5,9 @@
 // slip under it, a row it would contradict) is not written. Every byte
 // outside the edited spans is kept. Params are never touched.
 
-import type { FileResult } from './check';
-import { readDocument } from './pipeline';
-import type { QuantityAt, Spec } from './spec/types';
+import type { FileResult } from '../check';
+import { readDocument } from '../pipeline';
+import type { QuantityAt, Spec } from '../spec/types';
 
 export interface Edit {
   /** Offsets in the text as read (BOM excluded). */

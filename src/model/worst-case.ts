@@ -41,12 +41,12 @@
 // with dense brute-force references.
 
 import { rangedKeys } from './evaluation';
-import type { Figure } from './engine/figure';
+import type { Figure } from '../engine/figure';
 import type { Model } from './model';
-import { formatQuantity, type Kind } from './quantity';
-import type { RuleContext } from './rule';
-import { keySpecOf } from './spec/design';
-import type { Values } from './topologies/types';
+import { formatQuantity, type Kind } from '../quantity';
+import type { RuleContext } from '../verdicts/rule';
+import { keySpecOf } from '../spec/design';
+import type { Values } from '../topologies/types';
 
 export interface WorstPoint {
   label: string;

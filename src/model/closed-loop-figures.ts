@@ -15,12 +15,12 @@
 // the second-order picture does not hold (a third pole near the crossover, a
 // pole-zero doublet whose slow tail sets the settling time).
 
-import { type ClosedLoopResponse, type LargeStepSettling, type Modes, closedLoopResponse, closedMatrices, firstFall, largeStepSettling, overshoot, peakMagnitude, riseTime, settlingTime, unresolvedRinging } from './engine/closed-loop';
-import { type Figure, figure, missing } from './engine/figure';
-import { type Root, findRoots } from './engine/roots';
+import { type ClosedLoopResponse, type LargeStepSettling, type Modes, closedLoopResponse, closedMatrices, firstFall, largeStepSettling, overshoot, peakMagnitude, riseTime, settlingTime, unresolvedRinging } from '../engine/closed-loop';
+import { type Figure, figure, missing } from '../engine/figure';
+import { type Root, findRoots } from '../engine/roots';
 import type { Model } from './model';
-import { formatQuantity } from './quantity';
-import { DEFAULT_SETTLING_BAND, SETTLING_BAND, STEP_INPUT, signalGain } from './topologies/common';
+import { formatQuantity } from '../quantity';
+import { DEFAULT_SETTLING_BAND, SETTLING_BAND, STEP_INPUT, signalGain } from '../topologies/common';
 
 const TWO_PI = 2 * Math.PI;
 const DB = 20 / Math.LN10;

@@ -1,13 +1,13 @@
 // Params and conditions → the evaluated model: every claimable figure from
 // the exact network, the topology's hand estimates beside them, and caveats.
 
-import { type LoopAnalysis, type NetworkAnalysis, analyzeLoop, analyzeNetwork } from './engine/analyze';
-import { type Figure, figure, missing } from './engine/figure';
-import { NetworkError } from './engine/network';
-import { type Root, rootHz } from './engine/roots';
+import { type LoopAnalysis, type NetworkAnalysis, analyzeLoop, analyzeNetwork } from '../engine/analyze';
+import { type Figure, figure, missing } from '../engine/figure';
+import { NetworkError } from '../engine/network';
+import { type Root, rootHz } from '../engine/roots';
 import { closedLoopFigures, closedLoopHand } from './closed-loop-figures';
 import { noiseHand, noisePowerFigures } from './noise-power';
-import type { HandEstimates, Topology, Values } from './topologies/types';
+import type { HandEstimates, Topology, Values } from '../topologies/types';
 
 export interface Model {
   topology: Topology;

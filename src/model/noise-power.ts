@@ -13,13 +13,13 @@
 // Hand estimates: the topology's textbook input-referred density, and for the
 // closed-loop rms the one-pole noise bandwidth (π/2)·β·GBW (the "π/2 rule").
 
-import { type Figure, figure, missing } from './engine/figure';
-import { DEFAULT_TEMPERATURE, type NoiseModel, NoiseSolver, integrateLogFrequency } from './engine/noise';
-import type { Root } from './engine/roots';
+import { type Figure, figure, missing } from '../engine/figure';
+import { DEFAULT_TEMPERATURE, type NoiseModel, NoiseSolver, integrateLogFrequency } from '../engine/noise';
+import type { Root } from '../engine/roots';
 import type { Model } from './model';
-import { formatQuantity } from './quantity';
-import { INPUT_NOISE_AT, NOISE_BAND_FROM, NOISE_BAND_TO } from './topologies/common';
-import type { Values } from './topologies/types';
+import { formatQuantity } from '../quantity';
+import { INPUT_NOISE_AT, NOISE_BAND_FROM, NOISE_BAND_TO } from '../topologies/common';
+import type { Values } from '../topologies/types';
 
 const TWO_PI = 2 * Math.PI;
 

@@ -1,7 +1,7 @@
 // The finding: what every rule and every reader diagnostic produces, and
 // what every report writer consumes.
 
-import type { Figure } from './engine/figure';
+import type { Figure } from '../engine/figure';
 
 export type Severity = 'error' | 'warning' | 'note';
 

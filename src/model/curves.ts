@@ -6,9 +6,9 @@
 // response, the adjoint noise solve), so a plot shows what the figures were
 // computed from and a reporter computes nothing.
 
-import type { NetworkAnalysis } from './engine/analyze';
-import { settlingTime } from './engine/closed-loop';
-import { rootHz } from './engine/roots';
+import type { NetworkAnalysis } from '../engine/analyze';
+import { settlingTime } from '../engine/closed-loop';
+import { rootHz } from '../engine/roots';
 import { closedLoopView } from './closed-loop-figures';
 import type { Model } from './model';
 import { inputNoiseDensity } from './noise-power';

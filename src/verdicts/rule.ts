@@ -1,12 +1,12 @@
 // The rule contract and the wrapper that runs rules: the wrapper stamps the
 // rule id, owns severity and configuration; rule bodies only return drafts.
 
-import type { Evaluated } from './evaluation';
+import type { Evaluated } from '../model/evaluation';
 import type { Finding, Severity } from './findings';
-import type { Model } from './model';
+import type { Model } from '../model/model';
 import type { Judged } from './points';
-import type { Spec } from './spec/types';
-import type { Values } from './topologies/types';
+import type { Spec } from '../spec/types';
+import type { Values } from '../topologies/types';
 import type { Tolerances } from './verdict';
 
 export interface RuleContext {

@@ -4,7 +4,7 @@
 // prefix-slip rule and by restatements, which never rewrite a claim that
 // rests on such a value.
 
-import type { QuantityAt, Spec, ValueEntry } from './spec/types';
+import type { QuantityAt, Spec, ValueEntry } from '../spec/types';
 
 const FACTORS = [1e3, 1e-3, 1e6, 1e-6, 1e9, 1e-9];
 

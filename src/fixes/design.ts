@@ -10,16 +10,16 @@
 // (c) `none`: no value of any knob meets the claim, said with the range scanned.
 // The words of `suggestions` are rendered from these.
 
-import type { Fix, TextEdit } from './findings';
-import { type Model, evaluationCount } from './model';
-import type { Judged } from './points';
-import { type Kind, type Written, formatLike, formatQuantity, parseQuantity } from './quantity';
-import type { Recheck, RuleContext } from './rule';
+import type { Fix, TextEdit } from '../verdicts/findings';
+import { type Model, evaluationCount } from '../model/model';
+import type { Judged } from '../verdicts/points';
+import { type Kind, type Written, formatLike, formatQuantity, parseQuantity } from '../quantity';
+import type { Recheck, RuleContext } from '../verdicts/rule';
 import { slippedParams } from './slips';
-import { keySpecOf, knobKeys } from './spec/design';
-import type { ClaimEntry, QuantityAt, Spec } from './spec/types';
-import type { KeySpec, Values } from './topologies/types';
-import { type BoundVerdict, THIN_FRACTION, judge, toleranceFor } from './verdict';
+import { keySpecOf, knobKeys } from '../spec/design';
+import type { ClaimEntry, QuantityAt, Spec } from '../spec/types';
+import type { KeySpec, Values } from '../topologies/types';
+import { type BoundVerdict, THIN_FRACTION, judge, toleranceFor } from '../verdicts/verdict';
 
 /** Formats a bound so that, read back, it is still on the safe side of `value`. */
 export function formatBound(value: number, like: Written, kind: Kind, side: 'at-most' | 'at-least' | 'nearest'): string {

@@ -5,16 +5,16 @@
 // every statement of the spec again with params changed: what a design change
 // does to all of them.
 
-import { type Evaluated, conditionsText, corners, typicalValues } from './evaluation';
-import { keySpecOf } from './spec/design';
+import { type Evaluated, conditionsText, corners, typicalValues } from '../model/evaluation';
+import { keySpecOf } from '../spec/design';
 import { type Finding, byCodeUnit } from './findings';
-import { type Model, ModelError, evaluate } from './model';
+import { type Model, ModelError, evaluate } from '../model/model';
 import { inLoop } from './places';
 import type { RuleContext } from './rule';
-import type { ClaimEntry, Spec, ValueEntry } from './spec/types';
-import type { Values } from './topologies/types';
+import type { ClaimEntry, Spec, ValueEntry } from '../spec/types';
+import type { Values } from '../topologies/types';
 import { type BoundVerdict, DEFAULT_TOLERANCES, type Tolerances, judge, toleranceFor } from './verdict';
-import { worstCase } from './worst-case';
+import { worstCase } from '../model/worst-case';
 
 /** The claims made at one operating point, and the models evaluated there. */
 export interface OperatingPoint {

@@ -1,11 +1,11 @@
 // Waivers: accepted deviations recorded in the front matter. A waived finding
 // is listed (as waived) but counts neither as an error nor as a warning.
 
-import { RULES } from '../rules';
-import { INPUT_RULE_IDS } from './diagnostics';
+import { RULES } from '../../rules';
+import { INPUT_RULE_IDS } from '../diagnostics';
 import type { Finding } from './findings';
-import { nearest } from './spec/nearest';
-import type { Waiver } from './spec/types';
+import { nearest } from '../spec/nearest';
+import type { Waiver } from '../spec/types';
 
 export { INPUT_RULE_IDS };
 

@@ -2,16 +2,16 @@
 // model: typical values at the typical point, min/max bounds at the worst
 // corner of any ranges, with the tolerance of the claim's kind.
 
-import { conditionsText } from './evaluation';
-import type { Figure } from './engine/figure';
+import { conditionsText } from '../model/evaluation';
+import type { Figure } from '../engine/figure';
 import type { ClaimVerdict, Fix } from './findings';
-import { designChanges, renderFixes, restate } from './fixes';
+import { designChanges, renderFixes, restate } from '../fixes/design';
 import { loopVerdict } from './points';
-import { worstCase } from './worst-case';
+import { worstCase } from '../model/worst-case';
 import type { Draft, Rule, RuleContext } from './rule';
-import { CANONICAL_UNIT } from './quantity';
-import type { ClaimEntry } from './spec/types';
-import type { Values } from './topologies/types';
+import { CANONICAL_UNIT } from '../quantity';
+import type { ClaimEntry } from '../spec/types';
+import type { Values } from '../topologies/types';
 import { type BoundVerdict, boundSymbol, describeTolerance, judge, offBy, show, toleranceFor } from './verdict';
 
 export interface ClaimRuleSpec {

@@ -2,9 +2,9 @@
 // judged against (typical point, or the worst corner of a bound) and its
 // verdict, from the same computations the rules made (worstCase is memoized).
 
-import type { FileResult, OperatingPoint } from './check';
-import type { Figure } from './engine/figure';
-import type { ClaimEntry } from './spec/types';
+import type { FileResult, OperatingPoint } from '../check';
+import type { Figure } from '../engine/figure';
+import type { ClaimEntry } from '../spec/types';
 
 export interface BoundResult {
   bound: 'typ' | 'min' | 'max';
